@@ -1,0 +1,48 @@
+"""Return-level curves: interpolation, inversion and the AEP conventions."""
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+from extremes.curves import DENSE_PERIODS_YEARS, ReturnLevelCurve, aep_from_period, period_from_aep
+from extremes.errors import DataError
+
+
+def _gumbel_curve():
+    # Gumbel annual maxima, loc 2.0 m, scale 0.2 m: z_T = mu - sigma ln(-ln(1 - 1/T)) (Coles 2001 eq. 3.10)
+    periods = DENSE_PERIODS_YEARS
+    level = 2.0 - 0.2 * np.log(-np.log1p(-1.0 / periods))
+    return ReturnLevelCurve(method="annual-maxima", periods_years=periods, level_m=level,
+                            lower_m=level - 0.1, upper_m=level + 0.1, period_definition="1/AEP")
+
+
+def test_aep_conventions_methods_sec9():
+    # METHODS.md sec. 9 [C]: ARI 100 yr <-> AEP 0.995 %; AEP 1 % <-> ARI 99.5 yr
+    assert aep_from_period(100.0, definition="1/rate") == pytest.approx(0.00995017, abs=1e-8)
+    assert period_from_aep(0.01, definition="1/rate") == pytest.approx(99.4992, abs=1e-4)
+    assert aep_from_period(100.0, definition="1/AEP") == pytest.approx(0.01)
+
+
+def test_level_at_matches_methods_gumbel_check_values():
+    # METHODS.md sec. 9 [C]: mu = 2.0, sigma = 0.2, xi = 0: T = 10/100/1000 -> 2.45007/2.92003/3.38145
+    curve = _gumbel_curve()
+    np.testing.assert_allclose(curve.level_at([10, 100, 1000]), [2.45007, 2.92003, 3.38145], atol=2e-3)
+
+
+def test_period_of_level_inverts_level_at():
+    curve = _gumbel_curve()
+    periods = np.array([2.0, 10.0, 100.0, 1000.0])
+    np.testing.assert_allclose(curve.period_of_level(curve.level_at(periods)), periods, rtol=1e-3)
+    assert np.isinf(curve.period_of_level(10.0))
+
+
+def test_round_trip_and_shift():
+    curve = _gumbel_curve()
+    again = ReturnLevelCurve.from_dict(curve.to_dict())
+    np.testing.assert_array_equal(again.level_m, curve.level_m)
+    np.testing.assert_allclose(curve.shifted(0.3).level_at([100]), curve.level_at([100]) + 0.3)
+
+
+def test_out_of_range_period_is_refused():
+    with pytest.raises(DataError, match="return periods"):
+        _gumbel_curve().level_at([20000])
