@@ -113,3 +113,73 @@ def seed_option(func):
 def overwrite_option(func):
     """``--overwrite``: allow replacing existing results."""
     return click.option("--overwrite", is_flag=True, help="Replace existing results.")(func)
+
+
+def _optional_periods_callback(ctx, param, value):
+    return None if value is None else _periods_callback(ctx, param, value)
+
+
+def _optional_numbers_callback(ctx, param, value):
+    return None if value is None else tuple(parse_number_list(value, name=f"--{param.name.replace('_', '-')}"))
+
+
+def study_options(func):
+    """Options of a whole study (``run`` and ``batch``), collected into ``study`` (a dict) and ``config``.
+
+    Unset flags are None so that a TOML study file given with ``--config`` supplies them; see
+    :func:`resolve_study_options`.
+    """
+    options = [
+        click.option("--config", type=click.Path(exists=True, dir_okay=False, path_type=Path),
+                     metavar="STUDY.toml", help="TOML study file; flags given here override it."),
+        click.option("--epoch", "epoch_year", type=click.FloatRange(1800, 2300), metavar="YEAR",
+                     help="Mean-sea-level epoch of the levels [decimal year]. Default: end of record."),
+        click.option("--periods", "periods_years", callback=_optional_periods_callback, metavar="LIST",
+                     help="Comma-separated return periods [years]. Default: 1,2,5,10,20,50,100,200,500,1000."),
+        click.option("--slr", "slr_m", callback=_optional_numbers_callback, metavar="LIST",
+                     help="Comma-separated sea-level-rise offsets [m]. Default: 0,0.25,0.5,1."),
+        click.option("--slr-scenarios", "slr_scenarios", type=click.Path(exists=True, dir_okay=False),
+                     metavar="FILE", help="Sea-level-rise scenario table (CSV or TOML) of rise by year."),
+        click.option("--design-life", "design_life_years", type=click.FloatRange(min=1), metavar="YEARS",
+                     help="Design life for encounter probabilities [years]. Default: 50."),
+        click.option("--accepted-risk", "accepted_risk", type=click.FloatRange(0, 1, min_open=True, max_open=True),
+                     metavar="P", help="Accepted probability of exceedance over the design life. Default: 0.1."),
+        click.option("--resamples", type=click.IntRange(min=0), metavar="N",
+                     help="Resamples for joint-probability intervals. Default: 500."),
+        click.option("--seed", type=click.IntRange(min=0), metavar="N",
+                     help="Seed of every random draw (default fixed and recorded)."),
+    ]
+    for option in reversed(options):
+        func = option(func)
+
+    @functools.wraps(func)
+    def wrapper(*args, config, epoch_year, periods_years, slr_m, slr_scenarios, design_life_years,
+                accepted_risk, resamples, seed, **kwargs):
+        kwargs["config"] = config
+        kwargs["study"] = {
+            "epoch_year": epoch_year, "periods_years": periods_years, "slr_m": slr_m,
+            "slr_scenarios": None if slr_scenarios is None else str(Path(slr_scenarios).resolve()),
+            "design_life_years": design_life_years, "accepted_risk": accepted_risk,
+            "resamples": resamples, "seed": seed,
+        }
+        return func(*args, **kwargs)
+
+    return wrapper
+
+
+def resolve_study_options(config, study: dict, reader: dict):
+    """Combine a study file (if any), study flags and reader flags; flags win over the file.
+
+    Returns ``(StudyOptions, reader dict)``.
+    """
+    from extremes.study_options import StudyOptions, load_study_file
+
+    file_options, file_reader = (StudyOptions(), {}) if config is None else load_study_file(config)
+    options = file_options.replace(**study)
+    defaults = {"units": "m", "decimal": ".", "missing": []}
+    merged = dict(file_reader)
+    for key, value in reader.items():
+        if value is None or (key in defaults and value == defaults[key] and key in file_reader):
+            continue
+        merged[key] = value
+    return options, merged
