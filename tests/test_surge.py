@@ -164,12 +164,12 @@ def test_independent_surge_shows_no_interaction_on_most_seeds(spring_neap):
 
 
 def test_tide_dependent_surge_is_detected(spring_neap):
-    # [C] surge amplified at low tide and damped at high tide (factor 1 - 0.6 * tide/1.3): peaks cluster
-    # away from high water and skew surge falls with the predicted high-water level.
+    # [C] a surge (0.3 m set-up plus storms) amplified at low tide and damped at high tide by the factor
+    # 1 - 0.7 tide/1.3: peaks cluster away from high water and skew surge falls with the HW level.
     index, _, tide, tp = spring_neap
     hw = tp.loc[tp["kind"] == "high", "time"]
     s = _storm_surge(np.random.default_rng(42), index.size, per_hour=6)
-    observed = _series(index, tide + s * (1.0 - 0.6 * tide / 1.3))
+    observed = _series(index, tide + (0.3 + s) * (1.0 - 0.7 * tide / 1.3))
     ntr = surge.residual_from_prediction(observed, tide)
     skew = surge.skew_surges_from_turning_points(observed, tp)
     res = surge.interaction_tests_from_series(ntr, hw, skew, peak_quantile=0.97)
