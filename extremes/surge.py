@@ -493,7 +493,7 @@ def interaction_tests_from_series(residual_m: pd.Series, high_water_times: Any, 
                                   peak_quantile: float = 0.99, min_separation_hours: float = 48.0,
                                   n_bands: int = 3, tail_quantiles: tuple = (0.5, 0.9, 0.99),
                                   alpha: float = 0.05) -> InteractionTests:
-    """Tests of tide-surge interaction from a residual series, predicted HW times and skew surges.
+    r"""Tests of tide-surge interaction from a residual series, predicted HW times and skew surges.
 
     Parameters
     ----------
