@@ -15,13 +15,21 @@ References
 """
 from __future__ import annotations
 
+import json
 import logging
+import warnings
+from dataclasses import dataclass, field
+from pathlib import Path
 
 import numpy as np
+import pandas as pd
+import scipy.linalg
 
-from extremes.errors import DataError
-from extremes.tide.astronomy import days_since_epoch, doodson_variables_days
-from extremes.tide.constituents import NODAL_FAMILIES, doodson_matrix, get_constituent
+from extremes.errors import DataError, ExtremesWarning, FitError
+from extremes.outputs import write_text_atomic
+from extremes.tide.astronomy import days_since_epoch, doodson_variables_days, to_utc_index
+from extremes.tide.constituents import (DEFAULT_INFERRED, EQUILIBRIUM_INFERENCE, doodson_matrix,
+                                       get_constituent, select_constituents)
 from extremes.tide.nodal import family_factors, nodal_exponents
 
 logger = logging.getLogger(__name__)
@@ -103,4 +111,539 @@ def predict_tide(times, names, amplitudes_m, phases_deg, *, z0_m: float = 0.0) -
     return _synthesise(d, _Basis(names), amplitudes_m, phases_deg) + float(z0_m)
 
 
-__all__ = ["predict_tide"]
+
+
+# --------------------------------------------------------------------------------------------------------
+# analysis
+_EPOCH_DAYS = np.datetime64("1899-12-31T12:00:00", "ns")
+_DAYS_PER_YEAR = 365.25
+#: half-width of the frequency band around each species used for the residual spectrum [cycles/day]
+BAND_HALF_WIDTH_CPD = 0.2
+SNR_THRESHOLD = 2.0
+SCHEMA = "extremes.tide_model/1"
+
+
+@dataclass(frozen=True)
+class FittedConstituent:
+    """Harmonic constants of one constituent.
+
+    Attributes
+    ----------
+    name : str
+    speed_deg_per_hour : float
+        Angular speed. [deg/h]
+    amplitude_m : float
+        Amplitude H. [m]
+    phase_deg : float
+        Greenwich phase lag G (UTC, relative to the equilibrium argument), 0..360. [deg]
+    amplitude_se_m, phase_se_deg : float
+        Standard errors from the band-averaged residual spectrum. [m], [deg]
+    snr : float
+        Signal-to-noise ratio (H / SE_H)^2; below 2 the constituent is not significant.
+    inferred : bool
+        True when inferred from a reference constituent rather than fitted.
+    """
+
+    name: str
+    speed_deg_per_hour: float
+    amplitude_m: float
+    phase_deg: float
+    amplitude_se_m: float
+    phase_se_deg: float
+    snr: float
+    inferred: bool = False
+
+    @property
+    def significant(self) -> bool:
+        """SNR >= 2 (inferred constituents count as significant when their reference is)."""
+        return bool(self.snr >= SNR_THRESHOLD)
+
+    def to_dict(self) -> dict:
+        return {"name": self.name, "speed_deg_per_hour": self.speed_deg_per_hour,
+                "amplitude_m": self.amplitude_m, "phase_deg": self.phase_deg,
+                "amplitude_se_m": self.amplitude_se_m, "phase_se_deg": self.phase_se_deg,
+                "snr": self.snr, "inferred": self.inferred}
+
+    def __repr__(self) -> str:
+        return f"FittedConstituent({self.name}, H={self.amplitude_m:.4f} m, G={self.phase_deg:.2f} deg)"
+
+
+def _iso(stamp) -> str | None:
+    return None if stamp is None else pd.Timestamp(stamp).tz_convert("UTC").isoformat()
+
+
+def _stamp(text) -> pd.Timestamp | None:
+    if text is None:
+        return None
+    stamp = pd.Timestamp(text)
+    return stamp.tz_localize("UTC") if stamp.tzinfo is None else stamp.tz_convert("UTC")
+
+
+def _float_or_none(value):
+    return None if value is None else float(value)
+
+
+def _float_or_nan(value):
+    return float("nan") if value is None else float(value)
+
+
+@dataclass(frozen=True)
+class TideModel:
+    """Result of a harmonic analysis: harmonic constants and what is needed to predict.
+
+    Attributes
+    ----------
+    z0_m : float
+        Mean level over the analysed record (at ``reference_time`` when a trend is fitted). [m]
+    constituents : tuple of FittedConstituent
+        Fitted and inferred constituents.
+    trend_m_per_year : float or None
+        Linear trend when fitted. [m/year]
+    reference_time : pandas.Timestamp
+        Mid-time of the analysed samples; origin of the trend. (UTC)
+    start, end : pandas.Timestamp
+        First and last valid sample analysed. (UTC)
+    n_samples : int
+        Valid samples used.
+    datum : str
+        Vertical datum of the levels.
+    residual_std_m : float
+        Standard deviation of the fit residual. [m]
+    condition_number : float or None
+        Condition number of the column-scaled design matrix.
+    rayleigh : float or None
+        Rayleigh factor used for the choice of constituents.
+    trend_se_m_per_year : float or None
+        Standard error of the trend. [m/year]
+    inference : dict
+        Inferred name -> [reference, amplitude ratio, phase difference deg].
+    """
+
+    z0_m: float
+    constituents: tuple = ()
+    trend_m_per_year: float | None = None
+    reference_time: pd.Timestamp | None = None
+    start: pd.Timestamp | None = None
+    end: pd.Timestamp | None = None
+    n_samples: int = 0
+    datum: str = "unspecified"
+    residual_std_m: float = float("nan")
+    condition_number: float | None = None
+    rayleigh: float | None = None
+    trend_se_m_per_year: float | None = None
+    inference: dict = field(default_factory=dict)
+
+    def __repr__(self) -> str:
+        return (f"TideModel({len(self.constituents)} constituents, z0={self.z0_m:.3f} m, "
+                f"n={self.n_samples}, datum={self.datum!r})")
+
+    @property
+    def names(self) -> list[str]:
+        """Constituent names, in model order."""
+        return [c.name for c in self.constituents]
+
+    def get(self, name: str) -> FittedConstituent | None:
+        """The constituent called ``name`` (any accepted spelling), or None when the model lacks it."""
+        key = get_constituent(name).name
+        for c in self.constituents:
+            if c.name == key:
+                return c
+        return None
+
+    def amplitude(self, name: str) -> float:
+        """Amplitude of ``name``, 0 when the model lacks it. [m]"""
+        c = self.get(name)
+        return 0.0 if c is None else c.amplitude_m
+
+    def predict(self, times, *, include_mean: bool = True, exclude=()) -> pd.Series:
+        """Predicted tide at the given times.
+
+        Parameters
+        ----------
+        times : array-like of tz-aware datetimes, or a Series with a DatetimeIndex
+            Prediction instants (UTC).
+        include_mean : bool, keyword-only
+            Add Z0 and the fitted trend (else the tide about zero mean). 
+        exclude : sequence of str, keyword-only
+            Constituents left out (e.g. the radiational Sa, Ssa, S1).
+
+        Returns
+        -------
+        pandas.Series
+            Predicted level, indexed by the UTC times, named ``tide``; ``attrs`` units and datum. [m]
+        """
+        index = to_utc_index(times)
+        dropped = {get_constituent(n).name for n in exclude}
+        kept = [c for c in self.constituents if c.name not in dropped]
+        values = predict_tide(index, [c.name for c in kept], [c.amplitude_m for c in kept],
+                              [c.phase_deg for c in kept])
+        if include_mean:
+            values = values + self.z0_m
+            if self.trend_m_per_year is not None:
+                values = values + self.trend_m_per_year * _years_since(index, self.reference_time)
+        out = pd.Series(values, index=index.rename("time"), name="tide")
+        out.attrs.update({"units": "m", "datum": self.datum})
+        return out
+
+    def to_dict(self) -> dict:
+        return {
+            "schema": SCHEMA, "z0_m": self.z0_m, "datum": self.datum,
+            "constituents": [c.to_dict() for c in self.constituents],
+            "trend_m_per_year": self.trend_m_per_year, "trend_se_m_per_year": self.trend_se_m_per_year,
+            "reference_time": _iso(self.reference_time), "start": _iso(self.start), "end": _iso(self.end),
+            "n_samples": self.n_samples, "residual_std_m": self.residual_std_m,
+            "condition_number": self.condition_number, "rayleigh": self.rayleigh,
+            "inference": {k: list(v) for k, v in self.inference.items()},
+            "conventions": {"time": "UTC", "phase": "Greenwich phase lag relative to the equilibrium argument",
+                            "astronomy": "Explanatory Supplement 1961 polynomials",
+                            "nodal": "exact Schureman formulas evaluated at each time"},
+        }
+
+    @classmethod
+    def from_dict(cls, data: dict) -> "TideModel":
+        """Rebuild a model from :meth:`to_dict` output.
+
+        Raises
+        ------
+        DataError
+            If the dictionary is not a tide model of this schema.
+        """
+        if not isinstance(data, dict) or data.get("schema") != SCHEMA:
+            got = data.get("schema") if isinstance(data, dict) else type(data).__name__
+            raise DataError(f"tide model: expected schema {SCHEMA!r}, got {got!r}")
+        try:
+            constituents = tuple(
+                FittedConstituent(name=get_constituent(c["name"]).name,
+                                  speed_deg_per_hour=float(c["speed_deg_per_hour"]),
+                                  amplitude_m=float(c["amplitude_m"]), phase_deg=float(c["phase_deg"]),
+                                  amplitude_se_m=_float_or_nan(c.get("amplitude_se_m")),
+                                  phase_se_deg=_float_or_nan(c.get("phase_se_deg")),
+                                  snr=_float_or_nan(c.get("snr")), inferred=bool(c.get("inferred", False)))
+                for c in data["constituents"])
+            return cls(
+                z0_m=float(data["z0_m"]), constituents=constituents,
+                trend_m_per_year=_float_or_none(data.get("trend_m_per_year")),
+                reference_time=_stamp(data.get("reference_time")), start=_stamp(data.get("start")),
+                end=_stamp(data.get("end")), n_samples=int(data.get("n_samples", 0)),
+                datum=str(data.get("datum", "unspecified")),
+                residual_std_m=_float_or_nan(data.get("residual_std_m")),
+                condition_number=_float_or_none(data.get("condition_number")),
+                rayleigh=_float_or_none(data.get("rayleigh")),
+                trend_se_m_per_year=_float_or_none(data.get("trend_se_m_per_year")),
+                inference={k: tuple(v) for k, v in (data.get("inference") or {}).items()},
+            )
+        except (KeyError, TypeError, ValueError) as err:
+            raise DataError(f"tide model: malformed entry ({err})") from None
+
+    def save(self, path, *, overwrite: bool = False) -> Path:
+        """Write the model as JSON (atomic; refuses to replace a file unless ``overwrite``)."""
+        from extremes.jsonable import to_jsonable  # noqa: PLC0415 - shared strict JSON conversion
+        text = json.dumps(to_jsonable(self.to_dict()), indent=2, allow_nan=False)
+        return write_text_atomic(path, text + "\n", overwrite=overwrite)
+
+    @classmethod
+    def load(cls, path) -> "TideModel":
+        """Read a model written by :meth:`save`.
+
+        Raises
+        ------
+        DataError
+            If the file is not readable JSON of this schema.
+        """
+        try:
+            data = json.loads(Path(path).read_text(encoding="utf-8"))
+        except (OSError, ValueError) as err:
+            raise DataError(f"{path}: cannot read a tide model ({err})") from None
+        return cls.from_dict(data)
+
+
+def _years_since(index: pd.DatetimeIndex, reference) -> np.ndarray:
+    ref = pd.Timestamp(reference).tz_convert("UTC")
+    return (days_since_epoch(index) - days_since_epoch([ref])[0]) / _DAYS_PER_YEAR
+
+
+def _check_series(level_m) -> pd.Series:
+    if not isinstance(level_m, pd.Series):
+        raise DataError(f"level_m: expected a pandas Series of levels indexed by UTC times, got "
+                        f"{type(level_m).__name__}")
+    if not isinstance(level_m.index, pd.DatetimeIndex):
+        raise DataError(f"level_m: expected a DatetimeIndex, got {type(level_m.index).__name__}")
+    if level_m.index.tz is None:
+        raise DataError("level_m: naive time index refused; expected tz-aware UTC times")
+    try:
+        values = pd.to_numeric(level_m, errors="raise").astype(float)
+    except (TypeError, ValueError) as err:
+        raise DataError(f"level_m: expected numeric levels [m]; {err}") from None
+    values = values[np.isfinite(values.to_numpy())]
+    if not values.index.is_monotonic_increasing:
+        values = values.sort_index()
+    if values.index.has_duplicates:
+        n = int(values.index.duplicated().sum())
+        raise DataError(f"level_m: {n} duplicated time stamps; expected unique times (run quality checks)")
+    return values
+
+
+def _resolve_inference(infer, fitted: list[str], candidates_ok) -> dict[str, tuple[str, float, float]]:
+    if infer is False or infer is None:
+        return {}
+    if infer is True:
+        wanted = {n: (EQUILIBRIUM_INFERENCE[n][0], EQUILIBRIUM_INFERENCE[n][1], 0.0) for n in DEFAULT_INFERRED}
+    elif isinstance(infer, dict):
+        wanted = {}
+        for name, spec in infer.items():
+            try:
+                ref, ratio, delta = spec
+                wanted[get_constituent(name).name] = (get_constituent(ref).name, float(ratio), float(delta))
+            except (TypeError, ValueError) as err:
+                raise DataError(f"infer[{name!r}]: expected (reference, amplitude_ratio, phase_difference_deg),"
+                                f" got {spec!r}") from err
+    else:
+        raise DataError(f"infer: expected True, False or a mapping name -> (reference, ratio, phase_deg); "
+                        f"got {infer!r}")
+    return {n: spec for n, spec in wanted.items() if n not in fitted and spec[0] in fitted and candidates_ok(n)}
+
+
+def _band_variances(d: np.ndarray, resid: np.ndarray, bands: np.ndarray) -> tuple[np.ndarray, str]:
+    """Equivalent white-noise variance of the residual in each band (species, cycles/day) [m^2]."""
+    n = resid.size
+    white = np.full(bands.shape, float(np.mean(resid**2)) * n / max(n - 1, 1))
+    step = float(np.median(np.diff(d))) if n > 2 else 0.0
+    if step <= 0:
+        return white, "white"
+    k = np.rint((d - d[0]) / step).astype(np.int64)
+    if np.max(np.abs(k * step - (d - d[0]))) > 0.01 * step or k[-1] + 1 > 20 * n:
+        logger.info("irregular sampling: standard errors assume white residuals")
+        return white, "white"
+    m = int(k[-1]) + 1
+    grid = np.zeros(m)
+    grid[k] = resid
+    power = np.abs(np.fft.rfft(grid)) ** 2 * 2.0 / m**2
+    freq = np.fft.rfftfreq(m, d=step)  # cycles/day
+    fraction = n / m
+    out = np.empty(bands.shape)
+    for i, band in enumerate(bands):
+        lo, hi = (1e-12, BAND_HALF_WIDTH_CPD) if band == 0 else (band - BAND_HALF_WIDTH_CPD,
+                                                                  band + BAND_HALF_WIDTH_CPD)
+        sel = (freq > lo) & (freq <= hi)
+        sel[0] = False
+        if sel.sum() < 3:
+            out[i] = white[i]
+            continue
+        out[i] = power[sel].mean() * (m / 2.0) / fraction
+    return out, "band-averaged residual spectrum"
+
+
+def analyse_tide(level_m, *, constituents="auto", rayleigh: float = 1.0, infer=True, trend: bool = False,
+                 chunk_size: int = CHUNK) -> TideModel:
+    r"""Least-squares harmonic analysis of a water-level record.
+
+    Parameters
+    ----------
+    level_m : pandas.Series
+        Levels indexed by tz-aware UTC times; NaN rows are gaps and are left out (no interpolation). [m]
+    constituents : "auto" or sequence of str, keyword-only
+        ``"auto"``: the Rayleigh choice of :func:`~extremes.tide.constituents.select_constituents` over the
+        span of valid samples. A list is fitted as given; pairs that the record does not resolve
+        (Rayleigh) are refused.
+    rayleigh : float, keyword-only
+        Rayleigh factor R (resolution :math:`|\sigma_j-\sigma_k| L \ge 360 R`).
+    infer : bool or dict, keyword-only
+        True: infer P1 from K1 and K2 from S2 with equilibrium ratios (0.331, 0.272, phase difference 0) when
+        the record does not resolve them. A dict ``{name: (reference, amplitude_ratio, phase_diff_deg)}``
+        gives other ratios (e.g. from a nearby long record). False: no inference.
+    trend : bool, keyword-only
+        Fit a linear trend about the record's mid-time.
+    chunk_size : int, keyword-only
+        Samples per block when accumulating the normal equations (memory does not grow with length).
+
+    Returns
+    -------
+    TideModel
+
+    Raises
+    ------
+    DataError
+        Bad input, or a record too short for any constituent.
+    FitError
+        Singular normal equations.
+
+    Notes
+    -----
+    Model :math:`y = Z_0 [+ b(t - t_{mid})] + \sum_j f_j(a_j\cos\phi_j + b_j\sin\phi_j)`,
+    :math:`\phi_j = V_j + u_j`, f and u at each sample. :math:`H = \sqrt{a^2+b^2}`,
+    :math:`G = \operatorname{atan2}(b, a)`. An inferred constituent i of reference r adds
+    :math:`
+ho (f_i/f_r)`-weighted columns to r's pair (constrained-column form), so the fit stays linear.
+    The normal equations :math:`X^TX`, :math:`X^Ty` are accumulated over blocks of ``chunk_size``
+    samples and solved after column scaling (Cholesky, eigen-decomposition as fallback). Standard errors
+    use, for each constituent, the residual variance of its frequency band (species k: k +- 0.2 cycles/day;
+    long-period: 0-0.2 cycles/day) from the periodogram of the residual on the sampling grid (gaps as
+    zeros, rescaled by the fraction of valid samples) in place of the white-noise variance [3]_; linearised
+    :math:`\sigma_H`, :math:`\sigma_G`. SNR = :math:`(H/\sigma_H)^2`.
+
+    References
+    ----------
+    .. [1] G. Godin, The Analysis of Tides. Toronto: Univ. Toronto Press, 1972.
+    .. [2] M. G. G. Foreman, Manual for tidal heights analysis and prediction, Pacific Marine Science
+           Report 77-10, 1977 (rev. 2004).
+    .. [3] D. T. Pugh, Tides, Surges and Mean Sea-Level. Chichester: Wiley, 1987, ch. 4.
+    """
+    values = _check_series(level_m)
+    datum = str(level_m.attrs.get("datum", "unspecified"))
+    n = values.size
+    if n < 3:
+        raise DataError(f"level_m: {n} valid samples; expected at least a day of data")
+    if not rayleigh > 0:
+        raise DataError(f"rayleigh must be > 0; got {rayleigh}")
+    ns = values.index.tz_convert("UTC").tz_localize(None).values.astype("datetime64[ns]")
+    d = (ns - _EPOCH_DAYS).astype(np.int64) / 86400e9
+    y = values.to_numpy(dtype=float)
+    span_hours = (d[-1] - d[0]) * 24.0
+    sampling_hours = float(np.median(np.diff(d))) * 24.0
+    if span_hours <= 0:
+        raise DataError("level_m: all valid samples at one time; expected a record spanning at least a day")
+    nyquist = 180.0 / sampling_hours
+
+    limit = 360.0 * rayleigh / span_hours
+    if isinstance(constituents, str):
+        if constituents != "auto":
+            raise DataError(f"constituents: expected 'auto' or a list of names, got {constituents!r}")
+        names = select_constituents(span_hours, rayleigh=rayleigh, sampling_hours=sampling_hours)
+        if "M2" not in names:
+            names = []
+    else:
+        names = [get_constituent(c).name for c in constituents]
+        if len(set(names)) != len(names):
+            raise DataError(f"constituents: names repeated in {list(constituents)}")
+        sp = {nm: get_constituent(nm).speed_deg_per_hour for nm in names}
+        for i, a in enumerate(names):
+            if abs(sp[a]) < limit:
+                raise DataError(f"constituents: {a} is not resolved from the mean over {span_hours:.1f} h "
+                                f"(Rayleigh R={rayleigh}); drop it or give a longer record")
+            if sp[a] >= nyquist:
+                raise DataError(f"constituents: {a} ({sp[a]:.4f} deg/h) is above the Nyquist speed "
+                                f"{nyquist:.4f} deg/h of {sampling_hours:g}-h sampling")
+            for b in names[i + 1:]:
+                if abs(sp[a] - sp[b]) < limit:
+                    raise DataError(f"constituents: {a} and {b} are not resolved over {span_hours:.1f} h "
+                                    f"(Rayleigh R={rayleigh}); drop one")
+    if not names:
+        raise DataError(f"level_m: a span of {span_hours:.1f} h resolves no constituent "
+                        f"(M2 needs {360 * rayleigh / 28.9841042:.1f} h)")
+    inference = _resolve_inference(
+        infer, names, lambda nm: get_constituent(nm).speed_deg_per_hour < nyquist)
+    inferred = list(inference)
+    all_names = names + inferred
+    m_fit = len(names)
+    n_lead = 2 if trend else 1
+    n_par = n_lead + 2 * m_fit
+    if n <= n_par:
+        raise DataError(f"level_m: {n} valid samples for {n_par} parameters; expected more samples")
+
+    basis = _Basis(all_names)
+    ref_index = np.array([names.index(inference[i][0]) for i in inferred], dtype=int)
+    ratio = np.array([inference[i][1] for i in inferred])
+    delta = np.array([inference[i][2] for i in inferred]) * _RAD
+    d_mid = 0.5 * (d[0] + d[-1])
+
+    def design(sl: slice) -> np.ndarray:
+        phase, f = basis.phase_and_f(d[sl])
+        if inferred:
+            phase[:, m_fit:] -= delta
+            f[:, m_fit:] *= ratio
+        c = f * np.cos(phase)
+        s = f * np.sin(phase)
+        x = np.empty((phase.shape[0], n_par))
+        x[:, 0] = 1.0
+        if trend:
+            x[:, 1] = (d[sl] - d_mid) / _DAYS_PER_YEAR
+        cf, sf = c[:, :m_fit], s[:, :m_fit]
+        if inferred:
+            cf = cf.copy()
+            sf = sf.copy()
+            np.add.at(cf.T, ref_index, c[:, m_fit:].T)
+            np.add.at(sf.T, ref_index, s[:, m_fit:].T)
+        x[:, n_lead:n_lead + m_fit] = cf
+        x[:, n_lead + m_fit:] = sf
+        return x
+
+    xtx = np.zeros((n_par, n_par))
+    xty = np.zeros(n_par)
+    for start in range(0, n, chunk_size):
+        sl = slice(start, start + chunk_size)
+        x = design(sl)
+        xtx += x.T @ x
+        xty += x.T @ y[sl]
+    scale = np.sqrt(np.diag(xtx))
+    if np.any(scale == 0):
+        raise FitError("harmonic analysis: a design column is all zero")
+    a_mat = xtx / np.outer(scale, scale)
+    eig = np.linalg.eigvalsh(a_mat)
+    condition = float(np.sqrt(eig[-1] / eig[0])) if eig[0] > 0 else float("inf")
+    if not np.isfinite(condition) or condition > 1e7:
+        raise FitError(f"harmonic analysis: normal equations singular (condition number {condition:.3g}); "
+                       f"constituents {names} are not separable in this record")
+    if condition > 1e3:
+        warnings.warn(f"harmonic analysis: condition number {condition:.3g} is large; constituents are "
+                      f"poorly separated", ExtremesWarning, stacklevel=2)
+    try:
+        cho = scipy.linalg.cho_factor(a_mat)
+        beta_scaled = scipy.linalg.cho_solve(cho, xty / scale)
+        inv_scaled = scipy.linalg.cho_solve(cho, np.eye(n_par))
+    except np.linalg.LinAlgError:
+        inv_scaled = np.linalg.pinv(a_mat, hermitian=True)
+        beta_scaled = inv_scaled @ (xty / scale)
+    beta = beta_scaled / scale
+    cov_unit = inv_scaled / np.outer(scale, scale)
+
+    resid = np.empty(n)
+    for start in range(0, n, chunk_size):
+        sl = slice(start, start + chunk_size)
+        resid[sl] = y[sl] - design(sl) @ beta
+    dof = n - n_par
+    residual_std = float(np.sqrt(np.sum(resid**2) / dof))
+    speeds_all = np.array([get_constituent(nm).speed_deg_per_hour for nm in names])
+    bands = np.rint(speeds_all / 15.0)
+    band_var, how = _band_variances(d, resid, np.concatenate([[0.0], bands]))
+    # white residual variance uses the dof-corrected s^2; the band estimates replace it per constituent
+    z0 = float(beta[0])
+    trend_value = float(beta[1]) if trend else None
+    trend_se = float(np.sqrt(cov_unit[1, 1] * band_var[0])) if trend else None
+
+    fitted = []
+    by_name = {}
+    for j, nm in enumerate(names):
+        ia, ib = n_lead + j, n_lead + m_fit + j
+        a, b = beta[ia], beta[ib]
+        var = band_var[1 + j]
+        va, vb, cab = cov_unit[ia, ia] * var, cov_unit[ib, ib] * var, cov_unit[ia, ib] * var
+        h = float(np.hypot(a, b))
+        g = float(np.rad2deg(np.arctan2(b, a)) % 360.0)
+        if h > 0:
+            se_h = float(np.sqrt(max((a * a * va + b * b * vb + 2 * a * b * cab) / h**2, 0.0)))
+            se_g = float(np.rad2deg(np.sqrt(max((b * b * va + a * a * vb - 2 * a * b * cab) / h**4, 0.0))))
+        else:
+            se_h, se_g = float(np.sqrt(0.5 * (va + vb))), 180.0
+        snr = float((h / se_h) ** 2) if se_h > 0 else float("inf")
+        item = FittedConstituent(nm, float(speeds_all[j]), h, g, se_h, se_g, snr, False)
+        fitted.append(item)
+        by_name[nm] = item
+    for nm in inferred:
+        ref, rho, dlt = inference[nm]
+        r = by_name[ref]
+        fitted.append(FittedConstituent(
+            nm, get_constituent(nm).speed_deg_per_hour, rho * r.amplitude_m, (r.phase_deg + dlt) % 360.0,
+            rho * r.amplitude_se_m, r.phase_se_deg, r.snr, True))
+    index_valid = values.index.tz_convert("UTC")
+    mid = index_valid[0] + (index_valid[-1] - index_valid[0]) / 2
+    logger.info("harmonic analysis: %d samples, %d constituents fitted, %d inferred, condition %.3g, "
+                "errors from %s", n, m_fit, len(inferred), condition, how)
+    return TideModel(
+        z0_m=z0, constituents=tuple(fitted), trend_m_per_year=trend_value, reference_time=mid,
+        start=index_valid[0], end=index_valid[-1], n_samples=int(n), datum=datum,
+        residual_std_m=residual_std, condition_number=condition, rayleigh=float(rayleigh),
+        trend_se_m_per_year=trend_se, inference={k: tuple(v) for k, v in inference.items()},
+    )
+
+
+__all__ = ["predict_tide", "analyse_tide", "TideModel", "FittedConstituent", "SNR_THRESHOLD"]
