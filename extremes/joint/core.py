@@ -38,7 +38,7 @@ from extremes.errors import DataError
 
 logger = logging.getLogger(__name__)
 
-__all__ = ["SurgeDistribution", "exceedance_per_tide", "levels_for_rates", "rate_grid"]
+__all__ = ["SurgeDistribution", "exceedance_per_tide", "levels_for_rates", "rate_grid", "return_levels_by_convolution"]
 
 
 @dataclass(frozen=True, repr=False)
@@ -239,3 +239,43 @@ def levels_for_rates(z_grid, rate, target_rates) -> np.ndarray:
         return np.full(target.shape, np.nan)
     out = np.interp(target, lr, zr, left=np.nan, right=np.nan)
     return out
+
+
+def return_levels_by_convolution(tide_m, surge, *, events_per_year, periods_years, extremal_index=1.0,
+                                 weights=None, grid_step_m=0.001) -> np.ndarray:
+    r"""Return levels [m] of :math:`E(z) = \theta N Q(z)` for the periods (``1/rate`` definition).
+
+    Parameters
+    ----------
+    tide_m : array-like of float
+        Tide values (high waters or hours). [m]
+    surge : SurgeDistribution or scipy.stats frozen distribution
+        Needs ``sf`` and ``isf``. [m]
+    events_per_year : float
+        Tides (or hours) per year, N. [1/year]
+    periods_years : array-like of float
+        Return periods T = 1/E. [years]
+    extremal_index : float or callable
+        :math:`\theta`, a constant or a function of level.
+    weights : array-like, optional
+        Probability of each tide value (default equal).
+    grid_step_m : float
+        Step of the binned convolution. [m]
+
+    Returns
+    -------
+    numpy.ndarray
+        Level exceeded on average once per T years. [m]
+    """
+    tide, w = _check_tide(tide_m, weights)
+    periods = np.asarray(periods_years, dtype=float)
+    if np.any(~np.isfinite(periods)) or np.any(periods <= 0):
+        raise DataError(f"periods_years must be finite and > 0; got {periods.tolist()}")
+    theta = extremal_index if callable(extremal_index) else (lambda z: np.full_like(z, float(extremal_index)))
+    n = float(events_per_year)
+    z_lo = tide.min() + float(surge.isf(min(0.9, 3.0 / n)))
+    z_hi = tide.max() + float(surge.isf(1.0 / periods.max() / n / 1000.0))
+    h = max(float(grid_step_m), (z_hi - z_lo) / 2 ** 16)
+    z, rate = rate_grid(tide, w, lambda s: np.asarray(surge.sf(s))[None, :], z_lo=z_lo, z_hi=z_hi, h=h,
+                        events_per_year=n)
+    return levels_for_rates(z, theta(z) * rate[0], 1.0 / periods)
