@@ -5,5 +5,9 @@ from extremes.extremal.distributions import (  # noqa: F401
     FIT_METHODS, MODELS, GEVFit, GPDFit, exponential_loglik, fit_exponential, fit_gev, fit_gev_many, fit_gpd,
     fit_gpd_many, fit_gumbel, gev_cdf, gev_exceedance_probability, gev_loglik, gev_quantile, gev_return_level,
     gev_rlargest_loglik, gpd_exceedance_probability, gpd_exceedance_rate, gpd_loglik, gpd_return_level,
-    gumbel_loglik, sample_lmoments, gev_lmoment_parameters,
+    gumbel_loglik, sample_lmoments, gev_lmoment_parameters, fit_gev_rlargest, fit_gev_rlargest_many,
+)
+from extremes.extremal.uncertainty import (  # noqa: F401
+    BOOTSTRAP_METHODS, CI_METHODS, bootstrap_parameters, delta_standard_errors, gev_return_level_gradient,
+    profile_intervals_many, return_levels,
 )

@@ -720,11 +720,12 @@ def fit_gev_many(samples, *, model="gev"):
     return out, ll
 
 
-def _newton(fun, theta0, *, grad=None, hess=None, max_iter=60):
+def _newton(fun, theta0, *, grad=None, hess=None, grad_hess=None, max_iter=60):
     """Minimise ``fun(theta, rows)`` independently for every row of ``theta0`` by damped Newton steps.
 
     ``fun(theta, rows)`` gets parameter rows (k, p) and the indices ``rows`` (k,) of the problems they belong
-    to, and returns (k,) values; ``grad(theta, rows)`` returns (k, p) (central differences of ``fun`` if None).
+    to, and returns (k,) values; ``grad(theta, rows)`` returns (k, p) (central differences of ``fun`` if None);
+    ``hess(theta, rows)`` (k, p, p), or ``grad_hess`` returning both at once.
     The Hessian is taken by differences of the gradient; a Levenberg shift keeps the step a descent direction
     and a backtracking (Armijo) line search keeps every step inside the support.
     Returns (theta, value, converged).
@@ -756,18 +757,23 @@ def _newton(fun, theta0, *, grad=None, hess=None, max_iter=60):
         if idx.size == 0:
             break
         th = theta[idx]
-        g = G(th, idx)
+        if grad_hess is not None:
+            g, H_given = grad_hess(th, idx)
+        else:
+            g = G(th, idx)
         bad = ~np.all(np.isfinite(g), axis=1)
         h = hrel * np.maximum(1.0, np.abs(th))
         H = np.empty((idx.size, p, p))
-        for j in (range(p) if hess is None else ()):
+        for j in (range(p) if hess is None and grad_hess is None else ()):
             e = np.zeros_like(th)
             e[:, j] = h[:, j]
             if num:
                 H[:, :, j] = (G(th + e, idx) - G(th - e, idx)) / (2 * h[:, j, None])
             else:
                 H[:, :, j] = (G(th + e, idx) - g) / h[:, j, None]
-        if hess is not None:
+        if grad_hess is not None:
+            H = H_given
+        elif hess is not None:
             H = hess(th, idx)
         H = 0.5 * (H + np.swapaxes(H, 1, 2))
         H = np.where(np.isfinite(H), H, 0.0)
@@ -1106,10 +1112,95 @@ def fit_exponential(peaks, *, threshold=None, method="mle", rate_per_year=None, 
     return GPDFit(method, x.size, u, scale, 0.0, x.size / years, years, cov, ll, "exponential", x)
 
 
+def _rlargest_array(sample, r=None):
+    if hasattr(sample, "values") and hasattr(sample, "r") and not isinstance(sample, np.ndarray):
+        sample = sample.values  # RLargest
+    arr = np.asarray(sample, dtype=float)
+    if arr.ndim == 1:
+        arr = arr[:, None]
+    if arr.ndim != 2:
+        raise DataError(f"r-largest data must be a (years, r) table; got an array of shape {arr.shape}")
+    if r is not None:
+        if not (isinstance(r, (int, np.integer)) and 1 <= r <= arr.shape[1]):
+            raise ValueError(f"r must be an integer from 1 to {arr.shape[1]}; got {r!r}")
+        arr = arr[:, :r]
+    arr = arr[~np.isnan(arr[:, 0])]
+    # each row: values sorted decreasing, NaN (fewer events that year) at the end
+    arr = -np.sort(-np.where(np.isnan(arr), -np.inf, arr), axis=1)
+    arr[np.isinf(arr)] = np.nan
+    if arr.shape[0] < 3:
+        raise DataError(f"r-largest fit needs at least 3 years; got {arr.shape[0]}")
+    return arr
+
+
+def fit_gev_rlargest_many(samples):
+    """Maximum-likelihood r-largest GEV fits of many (years, r) tables at once, shape (B, years, r).
+
+    Returns (params (B, 3): loc [m], scale [m], shape [-]; loglik (B,)).
+    """
+    X = np.asarray(samples, dtype=float)
+    B = X.shape[0]
+    p0, _ = fit_gev_many(X[:, :, 0])
+    bad0 = ~np.all(np.isfinite(p0), axis=1)
+    if bad0.any():
+        lm = sample_lmoments(X[bad0, :, 0])
+        p0[bad0] = np.stack([lm[:, 0], lm[:, 1] / math.log(2), np.zeros(int(bad0.sum()))], axis=1)
+    theta0 = np.stack([p0[:, 0], np.log(p0[:, 1]), np.clip(p0[:, 2], -0.45, 0.8)], axis=1)
+
+    def fun(th, rows):
+        return _rlargest_nll(X[rows], th[:, :1], np.exp(th[:, 1:2]), th[:, 2:3])
+
+    f0 = fun(theta0, np.arange(B))
+    theta0[~np.isfinite(f0), 2] = 0.0
+    theta, f, conv = _newton(fun, theta0)
+    bad = ~conv | ~np.isfinite(f)
+    for i in np.flatnonzero(bad):
+        rows = np.array([i])
+        th_i, f_i, ok = _scipy_refit(lambda t, rows=rows: float(fun(np.asarray(t)[None, :], rows)[0]), theta0[i])
+        if ok:
+            theta[i], f[i], bad[i] = th_i, f_i, False
+    out = np.stack([theta[:, 0], np.exp(theta[:, 1]), theta[:, 2]], axis=1)
+    out[bad] = np.nan
+    return out, np.where(bad, np.nan, -f)
+
+
+def fit_gev_rlargest(sample, *, r=None):
+    r"""Fit the annual-maximum GEV to the r largest independent events of each year [1]_ sec. 3.5.
+
+    Parameters
+    ----------
+    sample : RLargest or array-like, shape (years, r)
+        Per year, the r largest declustered events (NaN where a year has fewer). [m]
+    r : int, optional
+        Use only the first r columns (check the stability of the estimates against r).
+
+    Returns
+    -------
+    GEVFit
+        ``model="gev-r-largest"``; parameters are those of the annual-maximum GEV, so return levels follow
+        :func:`gev_return_level`.
+
+    Notes
+    -----
+    Likelihood of Smith (1986) and Tawn (1988) as in [1]_ eq. 3.15; covariance from the numerical Hessian.
+    """
+    x = _rlargest_array(sample, r)
+    params, ll = fit_gev_rlargest_many(x[None, :, :])
+    if not np.all(np.isfinite(params)):
+        raise FitError(f"r-largest GEV maximum likelihood failed for {x.shape[0]} years, r={x.shape[1]}")
+    loc, scale, shape = params[0]
+
+    def nll(p):
+        return float(_rlargest_nll(x[None], np.array([[p[0]]]), np.array([[p[1]]]), np.array([[p[2]]]))[0])
+
+    cov = _observed_cov(nll, params[0])
+    return GEVFit("mle", x.shape[0], float(loc), float(scale), float(shape), cov, float(ll[0]), "gev-r-largest", x)
+
+
 __all__ = [
     "FIT_METHODS", "MODELS", "GEVFit", "GPDFit", "fit_gev", "fit_gumbel", "fit_gpd", "fit_exponential",
     "fit_gev_many", "fit_gpd_many", "gev_loglik", "gumbel_loglik", "gpd_loglik", "exponential_loglik",
-    "gev_rlargest_loglik", "gev_return_level", "gev_quantile", "gev_cdf", "gev_exceedance_probability",
+    "gev_rlargest_loglik", "fit_gev_rlargest", "fit_gev_rlargest_many", "gev_return_level", "gev_quantile", "gev_cdf", "gev_exceedance_probability",
     "gpd_return_level", "gpd_exceedance_rate", "gpd_exceedance_probability", "sample_lmoments",
     "gev_lmoment_parameters",
 ]
