@@ -262,9 +262,11 @@ def _most_common_spacing(index: pd.DatetimeIndex) -> pd.Timedelta:
     spacing = spacing[spacing > 0]
     if not len(spacing):
         return pd.NaT
-    values, counts = np.unique(spacing, return_counts=True)
+    spacing.sort()
+    starts = np.flatnonzero(np.concatenate([[True], spacing[1:] != spacing[:-1]]))
+    counts = np.diff(np.append(starts, len(spacing)))
     unit = np.datetime_data(index.dtype.base if hasattr(index.dtype, "base") else index.dtype)[0]
-    return pd.Timedelta(int(values[np.argmax(counts)]), unit=unit)
+    return pd.Timedelta(int(spacing[starts[np.argmax(counts)]]), unit=unit)
 
 
 def _to_utc_index(parsed: pd.Series | pd.DatetimeIndex, *, offset, utc_offset, source: str,
@@ -438,7 +440,7 @@ def _read_text(path: Path, *, time_columns, level_column, time_format, offset, u
         sep=sep if sep != r"\s+" else None, delim_whitespace=False, skiprows=n_lead, comment=None,
         header=0 if has_header else None, names=names, usecols=usecols,
         dtype={col: "str" for col in time_cols}, decimal=decimal, compression=compression,
-        skip_blank_lines=True, engine="c", na_values=["", "NA", "NaN", "nan", "NULL", "null", "-"],
+        skip_blank_lines=True, engine="c", skipinitialspace=True, na_values=["", "NA", "NaN", "nan", "NULL", "null", "-"],
         keep_default_na=False,
     )
     if sep == r"\s+":
@@ -460,7 +462,7 @@ def _read_text(path: Path, *, time_columns, level_column, time_format, offset, u
     if len(time_cols) == 2:
         text = frame[time_cols[0]].str.strip() + " " + frame[time_cols[1]].str.strip()
     else:
-        text = frame[time_cols[0]].str.strip()
+        text = frame[time_cols[0]]
     where = "column " + " + ".join(repr(c) for c in time_cols)
     parsed = _parse_times(text, time_format=time_format, path=path, where=where,
                           first_data_line=first_data_line)

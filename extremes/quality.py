@@ -1,0 +1,639 @@
+r"""Quality control of a tide-gauge record: flag, never delete.
+
+:func:`check_record` gives every row read exactly one flag, in this order of precedence (the first rule
+that applies wins, so the counts add up to the rows read):
+
+1. ``missing`` -- the row holds no value (empty field, ``NaN``);
+2. ``sentinel`` -- the row holds one of the declared missing codes (``--missing``);
+3. ``duplicate`` -- same time stamp and same value as an earlier row (the first copy stays ``ok``);
+4. ``conflicting_duplicate`` -- same time stamp as another row but a different value: every copy that
+   is not itself an identical repeat is flagged (the reader cannot tell which one is right);
+5. ``out_of_range`` -- outside limits derived from the record's own robust spread: with :math:`q_p` the
+   p-quantile of the values, the limits are :math:`q_{0.005} - f\,S` and :math:`q_{0.995} + f\,S` with
+   :math:`S = q_{0.995} - q_{0.005}` and ``range_factor`` :math:`f = 3` (no fixed numbers, so a
+   macro-tidal site is not flagged) [1]_;
+6. ``flatline`` -- a run of at least ``flatline_min_run`` (4) consecutive identical readings spanning at
+   least ``flatline_min_hours`` (1 h) from its first to its last reading; the duration rule keeps slack
+   water at sub-hourly sampling and coarse resolution (a few equal readings at high or low water) from
+   being flagged;
+7. ``spike`` -- :math:`|x - \tilde{x}| > k\,\hat\sigma` where :math:`\tilde{x}` is a running median of the
+   neighbours: the mean of the median of the samples in the half window before and the median of those in
+   the half window after (``spike_window_hours`` = 1 h in all, at least 2 samples each side, so the tide is
+   followed without lag and a sample never predicts itself; flat lines are taken out first), :math:`\hat\sigma = 1.4826` times the median
+   absolute deviation of :math:`x - \tilde{x}` over the record, and ``spike_k`` :math:`k=5` [1]_. On the raw level this catches isolated bad readings; once the tide is known,
+   :meth:`QualityReport.with_residual_spikes` applies the same test to the non-tidal residual;
+8. ``ok``.
+
+Other findings are reported but are not row flags: out-of-order stamps (rows whose stamp is earlier than a
+stamp above it; they are sorted into place), gaps (spans with no reading), irregular sampling, candidate
+datum shifts (step changes in monthly means) and completeness per year.
+
+References
+----------
+.. [1] IOC, "Manual on Sea Level Measurement and Interpretation," Intergovernmental Oceanographic
+   Commission, Manuals and Guides 14, UNESCO, Paris (quality-control chapters). [from memory]
+.. [2] P. Fryzlewicz, "Wild binary segmentation for multiple change-point detection," Ann. Statist.,
+   vol. 42, no. 6, pp. 2243-2281, 2014, doi:10.1214/14-AOS1245 (binary segmentation, the plain variant).
+.. [3] P. K. Sen, "Estimates of the regression coefficient based on Kendall's tau," J. Amer. Statist.
+   Assoc., vol. 63, pp. 1379-1389, 1968, doi:10.1080/01621459.1968.10480934.
+"""
+from __future__ import annotations
+
+import dataclasses
+import logging
+import math
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+
+from extremes.errors import DataError
+from extremes.records import GaugeRecord
+
+logger = logging.getLogger(__name__)
+
+#: row flags in order of precedence (``ok`` last)
+FLAGS = ("missing", "sentinel", "duplicate", "conflicting_duplicate", "out_of_range", "flatline", "spike")
+_CATEGORIES = ("ok",) + FLAGS
+_CODE = {name: code for code, name in enumerate(_CATEGORIES)}
+_MISSING_FLAGS = ("missing", "sentinel")
+_MAD_TO_SIGMA = 1.4826
+
+
+@dataclass(frozen=True, eq=False, repr=False)
+class QualityReport:
+    """Result of :func:`check_record`.
+
+    Attributes
+    ----------
+    level_m : pandas.Series
+        The clean series [m]: sorted unique UTC index, on the regular sampling grid when the sampling is
+        regular (gaps as NaN rows), every flagged sample NaN; ``attrs`` ``units`` and ``datum``.
+    flags : pandas.Series
+        Per row read, in file order (index: the rows' UTC stamps): the flag of each row (categorical).
+    counts : dict
+        Flag -> number of rows (``ok`` included); the values add up to the rows read.
+    gaps : pandas.DataFrame
+        One row per gap (a spacing between readings longer than the interval): ``start`` and ``end``
+        (first and last missing stamp), ``hours`` (spacing minus one interval) [h].
+    completeness_by_year : pandas.Series
+        Fraction of the expected samples present in the clean series, per calendar year (UTC).
+    datum_shifts : pandas.DataFrame
+        Candidate datum shifts: ``time`` (first month after the step), ``size_m`` [m], ``statistic``.
+    interval : pandas.Timedelta
+        Sampling interval (most common spacing).
+    regular : bool
+        Every stamp lies on the grid start + n * interval.
+    irregular_fraction : float
+        Fraction of the unique stamps off that grid.
+    out_of_order_rows : numpy.ndarray
+        Positions (0-based, file order) of rows whose stamp is earlier than a stamp above them.
+    range_m : tuple of float
+        The (lower, upper) limits of the ``out_of_range`` test [m].
+    spike_scale_m : float
+        Robust scale of the spike test on the raw level [m].
+    datum, source : str
+        From the record.
+    options : dict
+        The options used.
+    """
+
+    level_m: pd.Series
+    flags: pd.Series
+    counts: dict
+    gaps: pd.DataFrame
+    completeness_by_year: pd.Series
+    datum_shifts: pd.DataFrame
+    interval: pd.Timedelta
+    regular: bool
+    irregular_fraction: float
+    out_of_order_rows: np.ndarray
+    range_m: tuple
+    spike_scale_m: float
+    datum: str
+    source: str
+    options: dict = field(default_factory=dict)
+
+    # ------------------------------------------------------------------------------------------------
+    @property
+    def n_samples(self) -> int:
+        """Rows read."""
+        return len(self.flags)
+
+    @property
+    def n_missing(self) -> int:
+        """Rows without a reading (``missing`` + ``sentinel``)."""
+        return sum(self.counts.get(name, 0) for name in _MISSING_FLAGS)
+
+    @property
+    def n_flagged(self) -> int:
+        """Rows holding a reading that QC flagged (every flag but ``ok``, ``missing``, ``sentinel``)."""
+        return self.n_samples - self.counts.get("ok", 0) - self.n_missing
+
+    @property
+    def gap_hours(self) -> float:
+        """Total length of the gaps [h]."""
+        return float(self.gaps["hours"].sum()) if len(self.gaps) else 0.0
+
+    def complete_years(self, min_completeness: float = 0.9) -> list[int]:
+        """Years whose clean series holds at least ``min_completeness`` of the expected samples."""
+        good = self.completeness_by_year[self.completeness_by_year >= min_completeness]
+        return [int(year) for year in good.index]
+
+    def positions(self, flag: str, limit: int = 5) -> pd.DataFrame:
+        """First ``limit`` rows with ``flag``: ``row`` (1-based data row in file order) and ``time``."""
+        if flag == "out_of_order":
+            where = self.out_of_order_rows[:limit]
+        else:
+            if flag not in _CODE:
+                raise DataError(f"flag must be one of {list(_CATEGORIES) + ['out_of_order']}; got {flag!r}")
+            codes = self.flags.cat.codes.to_numpy()
+            where = np.flatnonzero(codes == _CODE[flag])[:limit]
+        return pd.DataFrame({"row": where + 1, "time": self.flags.index[where]})
+
+    # ------------------------------------------------------------------------------------------------
+    def with_residual_spikes(self, residual_m: pd.Series, *, spike_k: float = 5.0,
+                             spike_window_hours: float = 1.0) -> "QualityReport":
+        """Re-detect spikes on the de-tided (non-tidal) residual.
+
+        Parameters
+        ----------
+        residual_m : pandas.Series
+            Observed minus predicted tide on (a subset of) ``level_m``'s UTC index [m].
+        spike_k : float, keyword-only
+            Threshold in robust standard deviations.
+        spike_window_hours : float, keyword-only
+            Window of the running median of the neighbours [h] (at least 2 samples each side).
+
+        Returns
+        -------
+        QualityReport
+            A new report in which rows that were ``ok`` and whose residual is a spike are ``spike``; the
+            clean series, counts and completeness follow.
+        """
+        if not isinstance(residual_m, pd.Series) or not isinstance(residual_m.index, pd.DatetimeIndex):
+            raise DataError("residual_m must be a pandas Series on a DatetimeIndex")
+        if residual_m.index.tz is None:
+            raise DataError("residual_m has naive times; expected a tz-aware UTC index")
+        _check_positive(spike_k=spike_k, spike_window_hours=spike_window_hours)
+        residual = residual_m.tz_convert("UTC") if str(residual_m.index.tz) != "UTC" else residual_m
+        residual = residual[~residual.index.duplicated()].reindex(self.level_m.index)
+        values = residual.to_numpy(dtype=float, copy=True)
+        values[np.isnan(self.level_m.to_numpy())] = np.nan
+        spikes, _ = _spikes(values, self.interval, spike_k, spike_window_hours, times=self.level_m.index)
+        spike_times = self.level_m.index[spikes]
+        codes = self.flags.cat.codes.to_numpy().copy()
+        hit = (codes == _CODE["ok"]) & self.flags.index.isin(spike_times)
+        codes[hit] = _CODE["spike"]
+        level = self.level_m.copy()
+        level.iloc[np.flatnonzero(spikes)] = np.nan
+        level.attrs.update(self.level_m.attrs)
+        flags = pd.Series(pd.Categorical.from_codes(codes, categories=_CATEGORIES), index=self.flags.index,
+                          name="flag")
+        logger.info("%s: %d more spikes on the residual", self.source, int(hit.sum()))
+        options = dict(self.options, residual_spike_k=spike_k, residual_spike_window_hours=spike_window_hours)
+        return dataclasses.replace(
+            self, level_m=level, flags=flags, counts=_counts(codes),
+            completeness_by_year=completeness_by_year(level, interval=self.interval), options=options)
+
+    # ------------------------------------------------------------------------------------------------
+    def to_dict(self, *, max_positions: int = 5, max_gaps: int = 200) -> dict:
+        """The ``record`` object of the results (CONTRACT.md) plus details; JSON-ready, NaN-free."""
+        index = self.flags.index
+        flags = {name: int(self.counts.get(name, 0)) for name in FLAGS}
+        flags["gap_hours"] = _finite(self.gap_hours)
+        flags["out_of_order"] = int(len(self.out_of_order_rows))
+        faults = {}
+        for name in FLAGS + ("out_of_order",):
+            count = flags[name]
+            if count:
+                where = self.positions(name, max_positions)
+                faults[name] = {"count": count, "rows": [int(r) for r in where["row"]],
+                                "times": [_iso(t) for t in where["time"]]}
+        gaps = self.gaps.head(max_gaps)
+        return {
+            "start": _iso(index.min()) if len(index) else None,
+            "end": _iso(index.max()) if len(index) else None,
+            "n_samples": self.n_samples,
+            "interval_minutes": _finite(self.interval / pd.Timedelta(minutes=1)) if not pd.isna(self.interval)
+            else None,
+            "n_missing": self.n_missing,
+            "n_flagged": self.n_flagged,
+            "n_ok": int(self.counts.get("ok", 0)),
+            "flags": flags,
+            "datum": self.datum,
+            "units": "m",
+            "source": self.source,
+            "regular": bool(self.regular),
+            "irregular_fraction": _finite(self.irregular_fraction),
+            "range_m": [_finite(v) for v in self.range_m],
+            "spike_scale_m": _finite(self.spike_scale_m),
+            "faults": faults,
+            "n_gaps": int(len(self.gaps)),
+            "gaps": [{"start": _iso(g.start), "end": _iso(g.end), "hours": _finite(g.hours)}
+                     for g in gaps.itertuples()],
+            "completeness_by_year": {str(int(y)): _finite(v) for y, v in self.completeness_by_year.items()},
+            "datum_shift_candidates": [
+                {"time": _iso(s.time), "size_m": _finite(s.size_m), "statistic": _finite(s.statistic)}
+                for s in self.datum_shifts.itertuples()],
+            "options": {k: (_finite(v) if isinstance(v, float) else v) for k, v in self.options.items()},
+        }
+
+    def __repr__(self) -> str:
+        return (f"QualityReport(source={self.source!r}, rows={self.n_samples}, ok={self.counts.get('ok', 0)}, "
+                f"missing={self.n_missing}, flagged={self.n_flagged}, gaps={len(self.gaps)})")
+
+
+def _finite(value):
+    if value is None:
+        return None
+    value = float(value)
+    return value if math.isfinite(value) else None
+
+
+def _iso(stamp) -> str | None:
+    if stamp is None or pd.isna(stamp):
+        return None
+    return pd.Timestamp(stamp).tz_convert("UTC").strftime("%Y-%m-%dT%H:%M:%SZ")
+
+
+def _counts(codes: np.ndarray) -> dict:
+    tally = np.bincount(codes.astype(np.int64), minlength=len(_CATEGORIES))
+    return {name: int(tally[code]) for name, code in _CODE.items()}
+
+
+def _check_positive(**values):
+    for name, value in values.items():
+        if not (isinstance(value, (int, float, np.floating, np.integer)) and math.isfinite(value) and value > 0):
+            raise DataError(f"{name} must be a positive number; got {value!r}")
+
+
+# ----------------------------------------------------------------------------------------------------------
+def check_record(record: GaugeRecord, *, range_factor: float = 3.0, spike_k: float = 5.0,
+                 spike_window_hours: float = 1.0, flatline_min_run: int = 4, flatline_min_hours: float = 1.0,
+                 shift_threshold: float = 5.0, min_month_completeness: float = 0.5,
+                 min_segment_months: int = 12) -> QualityReport:
+    """Quality-control a record: flag every row (see the module notes for rules and precedence).
+
+    Parameters
+    ----------
+    record : GaugeRecord
+        From :func:`extremes.records.read_record`.
+    range_factor : float, keyword-only
+        Width of the physical-range margin in units of the record's 0.5-99.5 % spread.
+    spike_k : float, keyword-only
+        Spike threshold in robust standard deviations of (level - running median).
+    spike_window_hours : float, keyword-only
+        Window of the running median of the neighbours for spikes [h] (at least 2 samples each side).
+    flatline_min_run : int, keyword-only
+        Fewest consecutive identical readings that make a flat line.
+    flatline_min_hours : float, keyword-only
+        Shortest time from the first to the last reading of a flat line [h].
+    shift_threshold : float, keyword-only
+        Threshold of the standardised difference of medians for a datum-shift candidate.
+    min_month_completeness : float, keyword-only
+        Months with a smaller fraction of samples are left out of the datum-shift test.
+    min_segment_months : int, keyword-only
+        Shortest stretch between two datum-shift candidates [months].
+
+    Returns
+    -------
+    QualityReport
+
+    Raises
+    ------
+    DataError
+        No row holds a reading, or an option is out of range.
+    """
+    if not isinstance(record, GaugeRecord):
+        raise DataError(f"record must be a GaugeRecord from read_record; got {type(record).__name__}")
+    _check_positive(range_factor=range_factor, spike_k=spike_k, spike_window_hours=spike_window_hours,
+                    flatline_min_hours=flatline_min_hours, shift_threshold=shift_threshold)
+    if int(flatline_min_run) < 2:
+        raise DataError(f"flatline_min_run must be >= 2; got {flatline_min_run!r}")
+    options = dict(range_factor=range_factor, spike_k=spike_k, spike_window_hours=spike_window_hours,
+                   flatline_min_run=int(flatline_min_run), flatline_min_hours=flatline_min_hours,
+                   shift_threshold=shift_threshold, min_month_completeness=min_month_completeness,
+                   min_segment_months=int(min_segment_months))
+    series = record.water_level_m
+    index = series.index
+    if index.tz is None:
+        raise DataError(f"{record.source}: record times are naive; expected tz-aware UTC")
+    unit = np.datetime_data(index.dtype.base)[0] if hasattr(index.dtype, "base") else "ns"
+    stamps = index.asi8
+    values = series.to_numpy(dtype=float)
+    n = len(values)
+    codes = np.zeros(n, dtype=np.int8)
+    is_code = np.asarray(record.is_missing_code, dtype=bool)
+    nan = np.isnan(values)
+    codes[nan & ~is_code] = _CODE["missing"]
+    codes[is_code] = _CODE["sentinel"]
+    if not (codes == 0).any():
+        raise DataError(f"{record.source}: no row holds a reading ({n} rows, all missing)")
+
+    # out-of-order stamps (reported, sorted into place)
+    running_max = np.maximum.accumulate(stamps)
+    out_of_order = np.flatnonzero(stamps[1:] < running_max[:-1]) + 1
+
+    # duplicates among rows with a reading: identical repeats, then conflicting values at one stamp
+    valid_rows = np.flatnonzero(codes == 0)
+    if len(out_of_order) == 0 and np.all(stamps[1:] != stamps[:-1]):
+        u_rows = valid_rows  # the common case: strictly increasing stamps, no duplicates
+    else:
+        order = valid_rows[np.argsort(stamps[valid_rows], kind="stable")]
+        ts = stamps[order]
+        repeated = np.zeros(len(ts), dtype=bool)
+        repeated[1:] = ts[1:] == ts[:-1]
+        repeated[:-1] |= repeated[1:]
+        # sort the rows of repeated stamps by (stamp, value, row) to find identical and conflicting copies
+        rows = order[repeated]
+        rows = rows[np.lexsort((rows, values[rows], stamps[rows]))]
+        ts, vs = stamps[rows], values[rows]
+        same_time = np.concatenate([[False], ts[1:] == ts[:-1]])
+        identical = same_time & np.concatenate([[False], vs[1:] == vs[:-1]])
+        group = np.cumsum(~same_time) - 1
+        starts = np.flatnonzero(~same_time)
+        ends = np.append(starts[1:], len(ts)) - 1
+        conflicting_group = vs[ends] != vs[starts]  # values are sorted within a stamp
+        conflicting = conflicting_group[group] & ~identical
+        codes[rows[identical]] = _CODE["duplicate"]
+        codes[rows[conflicting]] = _CODE["conflicting_duplicate"]
+        u_rows = order[codes[order] == 0]
+    ut, uv = stamps[u_rows], values[u_rows].copy()
+
+    # grid
+    step = int(record.interval / pd.Timedelta(1, unit=unit)) if not pd.isna(record.interval) else 0
+    all_unique = _sorted_unique(stamps)
+    if step > 0:
+        off_grid = (all_unique - all_unique[0]) % step != 0
+        irregular_fraction = float(off_grid.mean())
+        regular = not off_grid.any()
+    else:
+        irregular_fraction, regular = 0.0, True
+    if not regular:
+        logger.warning("%s: irregular sampling: %.1f%% of stamps off the %s grid", record.source,
+                       100 * irregular_fraction, record.interval)
+
+    # physical range from the record's robust spread
+    q_lo, q_hi = np.quantile(uv, [0.005, 0.995])
+    spread = q_hi - q_lo
+    lower, upper = q_lo - range_factor * spread, q_hi + range_factor * spread
+    bad_range = (uv < lower) | (uv > upper)
+    codes[u_rows[bad_range]] = _CODE["out_of_range"]
+    uv[bad_range] = np.nan
+
+    # the working series: on the regular grid, or the sorted unique stamps
+    if regular and step > 0:
+        start = all_unique[0]
+        position = (ut - start) // step
+        n_grid = int((all_unique[-1] - start) // step) + 1
+        work = np.full(n_grid, np.nan)
+        work[position] = uv
+        grid_index = pd.DatetimeIndex(pd.to_datetime(start + step * np.arange(n_grid, dtype=np.int64),
+                                                     unit=unit, utc=True), name="time")
+    else:
+        position = np.arange(len(ut))
+        work = uv.copy()
+        grid_index = pd.DatetimeIndex(pd.to_datetime(ut, unit=unit, utc=True), name="time")
+    grid_times = grid_index.asi8
+
+    # flat lines, then spikes on the raw level without them
+    flat = _flat_runs(work, grid_times, min_run=int(flatline_min_run),
+                      min_span=int(pd.Timedelta(hours=flatline_min_hours) / pd.Timedelta(1, unit=unit)),
+                      step=step if regular else 0)
+    work[flat] = np.nan
+    spikes, spike_scale = _spikes(work, record.interval, spike_k, spike_window_hours, times=grid_index)
+    work[spikes] = np.nan
+    present = ~np.isnan(uv)
+    flat_at = flat[position] & present
+    spike_at = spikes[position] & present & ~flat_at
+    codes[u_rows[flat_at]] = _CODE["flatline"]
+    codes[u_rows[spike_at]] = _CODE["spike"]
+
+    level = pd.Series(work, index=grid_index, name="level_m")
+    level.attrs.update({"units": "m", "datum": record.datum})
+    flags = pd.Series(pd.Categorical.from_codes(codes, categories=_CATEGORIES), index=index, name="flag")
+    reading_times = _sorted_unique(stamps[~nan & ~is_code]) if step else np.array([], dtype=np.int64)
+    gaps = _gaps(reading_times, step, unit)
+    completeness = completeness_by_year(level, interval=record.interval)
+    shifts = datum_shift_candidates(level, interval=record.interval, threshold=shift_threshold,
+                                    min_month_completeness=min_month_completeness,
+                                    min_segment_months=int(min_segment_months))
+    report = QualityReport(
+        level_m=level, flags=flags, counts=_counts(codes), gaps=gaps, completeness_by_year=completeness,
+        datum_shifts=shifts, interval=record.interval, regular=regular, irregular_fraction=irregular_fraction,
+        out_of_order_rows=out_of_order, range_m=(float(lower), float(upper)), spike_scale_m=float(spike_scale),
+        datum=record.datum, source=record.source, options=options)
+    logger.info("%r", report)
+    return report
+
+
+# ----------------------------------------------------------------------------------------------------------
+def _sorted_unique(values: np.ndarray) -> np.ndarray:
+    ordered = np.sort(values)
+    if len(ordered) < 2:
+        return ordered
+    return ordered[np.concatenate([[True], ordered[1:] != ordered[:-1]])]
+
+
+def _half_window(interval: pd.Timedelta, hours: float) -> int:
+    if pd.isna(interval) or interval <= pd.Timedelta(0):
+        return 2
+    return max(2, int(round(pd.Timedelta(hours=hours) / interval / 2.0)))
+
+
+def _spikes(work: np.ndarray, interval, k: float, hours: float, *, times) -> tuple[np.ndarray, float]:
+    """Spikes: |x - x~| > k * 1.4826 * MAD of (x - x~), x~ the running median of the neighbours.
+
+    x~ at sample i is the mean of the median of the ``h`` samples before i and the median of the ``h``
+    samples after i (``2h`` samples spanning ``hours``), so a sample never predicts itself (on a steep tide a
+    centred median equals the sample and the spread of x - x~ collapses) and a rising or falling tide is
+    followed without lag.
+    """
+    half = _half_window(interval, hours)
+    finite = ~np.isnan(work)
+    if finite.sum() < 2 * half + 1:
+        return np.zeros(len(work), dtype=bool), float("nan")
+    rolling = pd.Series(work).rolling(half, min_periods=max(1, half // 2 + 1)).median().to_numpy()
+    before = np.concatenate([[np.nan], rolling[:-1]])            # samples i-h .. i-1
+    after = np.concatenate([rolling[half:], np.full(half, np.nan)])  # samples i+1 .. i+h
+    predicted = 0.5 * (before + after)
+    deviation = work - predicted
+    ok = ~np.isnan(deviation)
+    if not ok.any():
+        return np.zeros(len(work), dtype=bool), float("nan")
+    centre = np.median(deviation[ok])
+    scale = _MAD_TO_SIGMA * np.median(np.abs(deviation[ok] - centre))
+    if not scale > 0:
+        logger.info("spike test skipped: the running-median deviations have zero spread")
+        return np.zeros(len(work), dtype=bool), float(scale)
+    with np.errstate(invalid="ignore"):
+        spikes = np.abs(deviation - centre) > k * scale
+    return spikes & ok, float(scale)
+
+
+def _flat_runs(work: np.ndarray, times: np.ndarray, *, min_run: int, min_span: int, step: int) -> np.ndarray:
+    """Positions in runs of >= min_run consecutive identical readings spanning >= min_span (time units)."""
+    n = len(work)
+    if n < min_run:
+        return np.zeros(n, dtype=bool)
+    same = work[1:] == work[:-1]  # NaN breaks a run
+    if step:
+        same &= np.diff(times) == step
+    new_run = np.concatenate([[True], ~same])
+    run_id = np.cumsum(new_run) - 1
+    run_start = np.flatnonzero(new_run)
+    run_end = np.append(run_start[1:], n) - 1
+    length = run_end - run_start + 1
+    span = times[run_end] - times[run_start]
+    flagged_run = (length >= min_run) & (span >= min_span) & ~np.isnan(work[run_start])
+    return flagged_run[run_id]
+
+
+def _gaps(reading_times: np.ndarray, step: int, unit: str) -> pd.DataFrame:
+    if step <= 0 or len(reading_times) < 2:
+        return pd.DataFrame({"start": pd.DatetimeIndex([], tz="UTC"), "end": pd.DatetimeIndex([], tz="UTC"),
+                             "hours": np.array([], dtype=float)})
+    spacing = np.diff(reading_times)
+    where = np.flatnonzero(spacing > step)
+    start = pd.to_datetime(reading_times[where] + step, unit=unit, utc=True)
+    end = pd.to_datetime(reading_times[where + 1] - step, unit=unit, utc=True)
+    hours = (spacing[where] - step) * (pd.Timedelta(1, unit=unit) / pd.Timedelta(hours=1))
+    return pd.DataFrame({"start": start, "end": end, "hours": hours.astype(float)})
+
+
+def completeness_by_year(level_m: pd.Series, *, interval: pd.Timedelta | None = None,
+                         water_year_start_month: int = 1) -> pd.Series:
+    """Fraction of the expected samples present (finite) in each year.
+
+    Parameters
+    ----------
+    level_m : pandas.Series
+        Level on a tz-aware UTC index [m]; NaN counts as absent.
+    interval : pandas.Timedelta, optional
+        Sampling interval; default the most common spacing of the index.
+    water_year_start_month : int, keyword-only
+        First month of the year (1: calendar year). A year is labelled by the calendar year it starts in.
+
+    Returns
+    -------
+    pandas.Series
+        Completeness in [0, 1] indexed by year (int), from the first to the last year of the index.
+    """
+    index = level_m.index
+    if not isinstance(index, pd.DatetimeIndex) or index.tz is None:
+        raise DataError("level_m must be on a tz-aware UTC DatetimeIndex")
+    if not 1 <= int(water_year_start_month) <= 12:
+        raise DataError(f"water_year_start_month must be 1..12; got {water_year_start_month!r}")
+    if len(index) == 0:
+        return pd.Series([], dtype=float, name="completeness")
+    if interval is None or pd.isna(interval):
+        spacing = np.diff(index.asi8)
+        spacing = spacing[spacing > 0]
+        if not len(spacing):
+            return pd.Series([], dtype=float, name="completeness")
+        unit = np.datetime_data(index.dtype.base)[0]
+        values, tally = np.unique(spacing, return_counts=True)
+        interval = pd.Timedelta(int(values[np.argmax(tally)]), unit=unit)
+    index = index.tz_convert("UTC")
+    year = index.year.to_numpy()
+    if water_year_start_month != 1:
+        year = year - (index.month.to_numpy() < water_year_start_month)
+    finite = np.isfinite(level_m.to_numpy(dtype=float))
+    first, last = int(year.min()), int(year.max())
+    present = np.bincount(year[finite] - first, minlength=last - first + 1)
+    years = np.arange(first, last + 1)
+    starts = pd.to_datetime([f"{y}-{water_year_start_month:02d}-01" for y in years], utc=True)
+    ends = pd.to_datetime([f"{y + 1}-{water_year_start_month:02d}-01" for y in years], utc=True)
+    expected = (ends - starts) / interval
+    out = pd.Series(np.minimum(1.0, present / np.asarray(expected, dtype=float)), index=years,
+                    name="completeness")
+    out.index.name = "year"
+    out.attrs["water_year_start_month"] = int(water_year_start_month)
+    return out
+
+
+def datum_shift_candidates(level_m: pd.Series, *, interval: pd.Timedelta | None = None, threshold: float = 5.0,
+                           min_month_completeness: float = 0.5, min_segment_months: int = 12,
+                           max_shifts: int = 5) -> pd.DataFrame:
+    r"""Candidate datum shifts: step changes in the monthly means of a clean level series.
+
+    Monthly means (months at least ``min_month_completeness`` complete) are detrended with the
+    Theil-Sen slope [3]_ and de-seasoned with the median of each calendar month; binary segmentation [2]_
+    then splits at the month :math:`k` maximising
+    :math:`T_k = |\mathrm{med}(x_{k:}) - \mathrm{med}(x_{:k})| / (1.25\,\hat\sigma\sqrt{1/k + 1/(n-k)})`
+    with :math:`\hat\sigma` from the median absolute month-to-month difference (insensitive to the steps)
+    and 1.25 :math:`\approx\sqrt{\pi/2}` for the variance of a median. A split with :math:`T_k >`
+    ``threshold`` is a candidate; each side is searched again. The sizes are then estimated together by
+    least squares of the de-seasoned monthly means on a line plus one step per candidate.
+
+    Returns
+    -------
+    pandas.DataFrame
+        Columns ``time`` (first month after the step, UTC), ``size_m`` (later minus earlier) [m] and
+        ``statistic`` :math:`T_k`.
+    """
+    empty = pd.DataFrame({"time": pd.DatetimeIndex([], tz="UTC"), "size_m": np.array([], dtype=float),
+                          "statistic": np.array([], dtype=float)})
+    if len(level_m) == 0:
+        return empty
+    naive = level_m.tz_convert("UTC").tz_localize(None)
+    grouped = naive.resample("MS")
+    means = grouped.mean()
+    present = grouped.count()
+    if interval is None or pd.isna(interval):
+        return empty
+    month_length = (means.index + pd.offsets.MonthBegin(1)) - means.index
+    completeness = present.to_numpy() / (month_length / interval).to_numpy(dtype=float)
+    months = means[(completeness >= min_month_completeness) & means.notna().to_numpy()]
+    n = len(months)
+    if n < 2 * min_segment_months:
+        return empty
+    t_years = ((months.index - months.index[0]) / pd.Timedelta(days=365.25)).to_numpy(dtype=float)
+    x = months.to_numpy(dtype=float)
+    i, j = np.triu_indices(n, k=1)
+    slope = float(np.median((x[j] - x[i]) / (t_years[j] - t_years[i])))  # Theil-Sen [3]
+    intercept = float(np.median(x - slope * t_years))
+    residual = x - (intercept + slope * t_years)
+    calendar_month = months.index.month.to_numpy()
+    season = np.zeros(13)
+    for m in range(1, 13):
+        sel = calendar_month == m
+        if sel.any():
+            season[m] = np.median(residual[sel])
+    residual = residual - season[calendar_month]
+    x_deseasoned = x - season[calendar_month]
+    diffs = np.diff(residual)
+    sigma = _MAD_TO_SIGMA * np.median(np.abs(diffs - np.median(diffs))) / math.sqrt(2.0)
+    if not sigma > 0:
+        return empty
+
+    found: list[tuple[int, float]] = []
+
+    def search(lo: int, hi: int) -> None:
+        if len(found) >= max_shifts or hi - lo < 2 * min_segment_months:
+            return
+        segment = residual[lo:hi]
+        best_k, best_t = None, 0.0
+        for k in range(min_segment_months, len(segment) - min_segment_months + 1):
+            stat = abs(np.median(segment[k:]) - np.median(segment[:k])) / (
+                1.25 * sigma * math.sqrt(1.0 / k + 1.0 / (len(segment) - k)))
+            if stat > best_t:
+                best_k, best_t = k, stat
+        if best_k is None or best_t <= threshold:
+            return
+        found.append((lo + best_k, best_t))
+        search(lo, lo + best_k)
+        search(lo + best_k, hi)
+
+    search(0, n)
+    if not found:
+        return empty
+    found.sort()
+    design = [np.ones(n), t_years] + [(np.arange(n) >= k).astype(float) for k, _ in found]
+    coef, *_ = np.linalg.lstsq(np.column_stack(design), x_deseasoned, rcond=None)
+    times = pd.DatetimeIndex([months.index[k] for k, _ in found]).tz_localize("UTC")
+    return pd.DataFrame({"time": times, "size_m": coef[2:], "statistic": [t for _, t in found]})
+
+
+__all__ = ["FLAGS", "QualityReport", "check_record", "completeness_by_year", "datum_shift_candidates"]
