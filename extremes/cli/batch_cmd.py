@@ -1,0 +1,131 @@
+"""``extremes batch``: one study per record (or per point of a gridded model output) on dask."""
+from __future__ import annotations
+
+import json
+import sys
+from pathlib import Path
+
+import click
+from click.core import ParameterSource
+
+from extremes.cli import options
+
+_READER_PARAMS = {"time_columns": "time_columns", "level_column": "level_column", "time_format": "time_format",
+                  "units": "units", "missing": "missing", "utc_offset": "utc_offset", "datum": "datum",
+                  "decimal_comma": "decimal", "variable": "variable"}
+
+
+def _given(ctx: click.Context, name: str) -> bool:
+    return ctx.get_parameter_source(name) not in (ParameterSource.DEFAULT, ParameterSource.DEFAULT_MAP, None)
+
+
+def _slr_callback(ctx, param, value):
+    if value is None:
+        return None
+    return options.parse_number_list(value, name="--slr")
+
+
+@click.command("batch", short_help="One study per record (or model point) on dask; a summary of all.")
+@click.argument("records", nargs=-1, metavar="[RECORD]...")
+@click.option("--out", "out_dir", required=True, type=click.Path(file_okay=False, path_type=Path), metavar="DIR",
+              help="Results folder: DIR/<station>/ per station, DIR/summary.csv and DIR/summary.nc.")
+@click.option("--manifest", type=click.Path(exists=True, dir_okay=False, path_type=Path), metavar="FILE",
+              help="CSV listing the records (column path, optional per-station reader options).")
+@click.option("--gridded", multiple=True, type=click.Path(exists=True, dir_okay=False, path_type=Path),
+              metavar="FILE", help="NetCDF model output (time x points): every point is a station (repeatable).")
+@click.option("--block-size", type=click.IntRange(min=1), default=64, show_default=True, metavar="N",
+              help="Gridded input: points per dask task.")
+@options.reader_options
+@click.option("--epoch", "epoch_year", type=float, metavar="YEAR",
+              help="Mean-sea-level epoch of the levels [decimal year]; default the end of each record.")
+@options.periods_option
+@click.option("--slr", callback=_slr_callback, metavar="LIST", help="Comma-separated sea-level-rise offsets [m].")
+@options.seed_option
+@click.option("--config", type=click.Path(exists=True, dir_okay=False, path_type=Path), metavar="STUDY.toml",
+              help="Study file; options given on the command line override it.")
+@click.option("--scheduler", metavar="ADDRESS",
+              help="Address of a running dask scheduler (e.g. tcp://host:8786); default a local cluster.")
+@click.option("--workers", type=click.IntRange(min=1), metavar="N",
+              help="Worker processes of the local cluster (default: one per CPU).")
+@options.overwrite_option
+@click.option("--progress", "show_progress", is_flag=True, help="Show a progress bar on stderr even when not a TTY.")
+@options.json_option
+@click.pass_context
+def command(ctx, records, out_dir, manifest, gridded, block_size, reader, epoch_year, periods, slr, seed, config,
+            scheduler, workers, overwrite, show_progress, as_json):
+    """Run the whole study on every RECORD (files or glob patterns), on every record of a --manifest and on
+    every point of --gridded model output, one dask task per record (per block of points), and write one
+    folder per station under --out with a summary of all.
+
+    A station whose folder already holds complete results is skipped unless --overwrite. A failing station
+    gets its error in the summary and the others go on; the exit status is 1 when any station failed.
+
+    Example:  extremes batch 'gauges/*.csv' --out results --units cm --missing -99 --workers 4
+    """
+    from extremes import batch
+    from extremes.errors import DataError
+    from extremes.study_options import StudyOptions, load_study_file
+
+    if not (records or manifest or gridded):
+        raise click.UsageError("give at least one RECORD, a --manifest or a --gridded file")
+    if scheduler is not None and workers is not None:
+        raise click.UsageError("--workers sizes the local cluster; it cannot be used with --scheduler")
+
+    # reader options: the study file's [record] table, then the flags given on the command line
+    study_options, file_reader = (load_study_file(config) if config is not None else (StudyOptions(), {}))
+    merged_reader = {k: v for k, v in file_reader.items()}
+    for param, key in _READER_PARAMS.items():
+        if _given(ctx, param) or key not in merged_reader:
+            merged_reader[key] = reader[key]
+    changes = {"epoch_year": epoch_year, "slr_m": tuple(slr) if slr is not None else None}
+    if _given(ctx, "periods") or config is None:
+        changes["periods_years"] = tuple(periods)
+    if _given(ctx, "seed") or config is None:
+        changes["seed"] = seed
+    try:
+        study_options = study_options.replace(**changes)
+    except DataError as err:
+        raise click.UsageError(str(err)) from err
+
+    stations: list = []
+    if records:
+        stations += batch.stations_from_paths(batch.expand_records(records), reader=merged_reader)
+    if manifest is not None:
+        stations += batch.read_manifest(manifest, reader=merged_reader)
+    for path in gridded:
+        stations += batch.gridded_blocks(path, variable=merged_reader.get("variable"), block_size=block_size,
+                                         datum=merged_reader.get("datum"))
+
+    from tqdm import tqdm
+
+    bar = tqdm(total=len(stations), unit="task", file=sys.stderr, leave=False,
+               disable=not (show_progress or sys.stderr.isatty()))
+
+    def progress(done, total, name):
+        bar.set_postfix_str(name[:30], refresh=False)
+        bar.update(1)
+
+    try:
+        summary = batch.run_batch(stations, out_dir=out_dir, options=study_options, scheduler=scheduler,
+                                  workers=workers, overwrite=overwrite, progress=progress, errors="ignore")
+    finally:
+        bar.close()
+
+    if as_json:
+        click.echo(json.dumps(summary.to_dict(), indent=2, allow_nan=False))
+    else:
+        frame = summary.to_frame()
+        click.echo(f"{len(frame)} stations: {summary.n_ok} ok ({summary.n_skipped} from earlier runs), "
+                   f"{summary.n_failed} failed; summary in {summary.out_dir / 'summary.csv'}")
+        width = max(7, *(len(s) for s in frame["station"]))
+        click.echo(f"{'station':<{width}}  {'method':<28}  {'100-yr level [m]':>16}  status")
+        for row in frame.itertuples(index=False):
+            level = "" if row.level_100_m != row.level_100_m else f"{row.level_100_m:.3f}"
+            click.echo(f"{row.station:<{width}}  {row.recommended_method:<28}  {level:>16}  {row.status}")
+    if summary.n_failed:
+        for outcome in summary.outcomes:
+            if outcome["status"] != "ok":
+                click.echo(f"station {outcome['station']} failed: {outcome['status']}", err=True)
+        click.echo(f"{summary.n_failed} of {len(summary.outcomes)} stations failed; "
+                   f"see {summary.out_dir / 'summary.csv'}", err=True)
+        ctx.exit(1)
