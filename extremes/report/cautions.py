@@ -89,7 +89,7 @@ def standard_cautions(*, datum: str, epoch_year: float | None, record_years: flo
     if offsets:
         cautions.append("Future levels add sea-level-rise offsets (" + ", ".join(f"{x:g} m" for x in offsets)
                         + ") to present levels, assuming storm-tide statistics relative to mean sea level do not "
-                        "change [1]; tidal range may change with rise in shallow water.")
+                        "change; tidal range may change with rise in shallow water.")
     cautions.append("These results are inputs to engineering judgement. Local codes, permits, agency guidance "
                     "and licensed professional practice govern any design level.")
     return cautions
