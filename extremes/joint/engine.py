@@ -10,10 +10,10 @@ from __future__ import annotations
 
 import logging
 import warnings
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import stats
 
 from extremes.errors import DataError, ExtremesWarning, FitError
 from extremes.joint.core import SurgeDistribution, _binned_exceedance, levels_for_rates
@@ -64,8 +64,16 @@ def grid_limits(components, *, events_per_year, theta_min, min_rate, h):
 
 
 def _gpd_rows(s, u, p, scale, shape):
+    """p_u times the GPD survival (Coles 2001 eq. 4.2) for rows of (p, scale, shape); 0 beyond a bounded end."""
     y = np.maximum(s[None, :] - u, 0.0)
-    return p[:, None] * stats.genpareto.sf(y, shape[:, None], scale=scale[:, None])
+    xi = shape[:, None]
+    small = np.abs(xi) < 1e-6
+    xi_safe = np.where(small, 1.0, xi)
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        t = 1.0 + xi_safe * y / scale[:, None]
+        sf = np.where(t > 0, np.exp(-np.log(np.maximum(t, 1e-300)) / xi_safe), 0.0)
+        sf = np.where(small, np.exp(-y / scale[:, None]), sf)
+    return p[:, None] * sf
 
 
 def component_rates(component, *, z0, nz, h, events_per_year, year_draws=None, method="mle"):
@@ -108,10 +116,12 @@ def component_rates(component, *, z0, nz, h, events_per_year, year_draws=None, m
     cum = np.concatenate([np.zeros((counts.shape[0], 1)), np.cumsum(counts, axis=1)], axis=1)
 
     def rows(s):
-        r = np.searchsorted(x, s, side="right")
-        body = (n_b[:, None] - cum[:, r]) / np.maximum(n_b, 1)[:, None]
-        tail = _gpd_rows(s, u, p_u, np.where(ok, params[:, 0], 1.0), np.where(ok, params[:, 1], 0.0))
-        return np.where(s[None, :] >= u, tail, np.maximum(body, p_u[:, None]))
+        out = np.empty((counts.shape[0], s.size))
+        lo = s < u
+        r = np.searchsorted(x, s[lo], side="right")
+        out[:, lo] = np.maximum((n_b[:, None] - cum[:, r]) / np.maximum(n_b, 1)[:, None], p_u[:, None])
+        out[:, ~lo] = _gpd_rows(s[~lo], u, p_u, np.where(ok, params[:, 0], 1.0), np.where(ok, params[:, 1], 0.0))
+        return out
 
     out = factor * _binned_exceedance(c.tide_m, w, rows, z0=z0, nz=nz, h=h)
     out[~ok] = np.nan
@@ -119,7 +129,7 @@ def component_rates(component, *, z0, nz, h, events_per_year, year_draws=None, m
 
 
 def bootstrap_levels(components, *, year_ids, z0, nz, h, events_per_year, theta_of_z, periods_years,
-                     n_bootstrap, seed, method="mle", block_size=100):
+                     n_bootstrap, seed, method="mle", block_size=100, workers=1):
     """Block bootstrap of years: levels (B, P) with extremal index and with theta = 1."""
     rng = np.random.default_rng(seed)
     n_years = int(year_ids.max()) + 1
@@ -128,17 +138,26 @@ def bootstrap_levels(components, *, year_ids, z0, nz, h, events_per_year, theta_
     target = 1.0 / np.asarray(periods_years, dtype=float)
     out_c = np.full((n_bootstrap, target.size), np.nan)
     out_u = np.full_like(out_c, np.nan)
-    for start in range(0, n_bootstrap, block_size):
+    picks_all = rng.integers(0, n_years, (n_bootstrap, n_years))  # drawn up front: same result for any workers
+
+    def run_block(start):
         b = min(block_size, n_bootstrap - start)
-        picks = rng.integers(0, n_years, (b, n_years))
         draws = np.zeros((b, n_years), dtype=np.int64)
-        np.add.at(draws, (np.repeat(np.arange(b), n_years), picks.ravel()), 1)
+        np.add.at(draws, (np.repeat(np.arange(b), n_years), picks_all[start:start + b].ravel()), 1)
         rate = sum(component_rates(c, z0=z0, nz=nz, h=h, events_per_year=events_per_year, year_draws=draws,
                                    method=method) for c in components)
         for i in range(b):
             if np.all(np.isfinite(rate[i])):
                 out_u[start + i] = levels_for_rates(z, rate[i], target)
                 out_c[start + i] = levels_for_rates(z, theta * rate[i], target)
+
+    starts = range(0, n_bootstrap, block_size)
+    if workers > 1 and len(starts) > 1:
+        with ThreadPoolExecutor(max_workers=workers) as pool:
+            list(pool.map(run_block, starts))
+    else:
+        for start in starts:
+            run_block(start)
     return out_c, out_u
 
 
