@@ -115,14 +115,24 @@ class ReturnLevelCurve:
     # -- evaluation -------------------------------------------------------------------------------
     def _interp(self, values: np.ndarray, periods_years) -> np.ndarray:
         periods = np.asarray(periods_years, dtype=float)
-        if np.any(~np.isfinite(periods)) or np.any(periods < self.periods_years[0] - 1e-9) or np.any(
+        if np.any(~np.isfinite(periods)) or np.any(periods < 1.0) or np.any(
             periods > self.periods_years[-1] * (1 + 1e-9)
         ):
             raise DataError(
-                f"return periods must lie within {self.periods_years[0]:g}..{self.periods_years[-1]:g} "
+                f"return periods must lie within 1..{self.periods_years[-1]:g} "
                 f"years for {self.method}; got {np.atleast_1d(periods).tolist()}"
             )
-        return np.interp(np.log(periods), np.log(self.periods_years), values)
+        logp, logq = np.log(self.periods_years), np.log(np.maximum(periods, 1.0))
+        out = np.interp(logq, logp, values)
+        below = logq < logp[0]
+        if np.any(below):
+            # short linear extrapolation in log period down to 1 year (the grid starts just above 1 year);
+            # under the 1/AEP definition a 1-year level is undefined (every year exceeds it): NaN.
+            slope = (values[1] - values[0]) / (logp[1] - logp[0])
+            out = np.where(below, values[0] + slope * (logq - logp[0]), out)
+            if self.period_definition == "1/AEP":
+                out = np.where(periods <= 1.0, np.nan, out)
+        return out
 
     def level_at(self, periods_years) -> np.ndarray:
         """Return level [m] at ``periods_years`` (linear in log period between grid points)."""

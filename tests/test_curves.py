@@ -46,3 +46,14 @@ def test_round_trip_and_shift():
 def test_out_of_range_period_is_refused():
     with pytest.raises(DataError, match="return periods"):
         _gumbel_curve().level_at([20000])
+
+
+def test_one_year_period():
+    # under 1/AEP a 1-year level is undefined (AEP = 1); under 1/rate it is the level reached once a year
+    curve = _gumbel_curve()
+    assert np.isnan(curve.level_at([1.0])[0])
+    rate_curve = ReturnLevelCurve(method="peaks-over-threshold", periods_years=DENSE_PERIODS_YEARS,
+                                  level_m=1.5 + 0.1 * np.log(DENSE_PERIODS_YEARS), lower_m=None, upper_m=None,
+                                  period_definition="1/rate")
+    # GPD xi = 0 with threshold 1.5 m, scale 0.1 m, rate 1/yr: x_T = u + sigma ln(T) (METHODS.md sec. 9 [C])
+    assert rate_curve.level_at([1.0])[0] == pytest.approx(1.5, abs=1e-9)
