@@ -39,7 +39,8 @@ def standard_cautions(*, datum: str, epoch_year: float | None, record_years: flo
     interval_minutes : float, optional
         Sampling interval of the record; hourly or coarser values under-read peaks. [min]
     methods : iterable of str
-        Method names in the results (joint-probability methods add the tide-surge independence caution).
+        Method names in the results. The tide-surge independence caution is left out only when the
+        methods are given and none is a joint-probability method.
     recommended_method : str, optional
         The method whose levels are recommended.
     slr_offsets_m : iterable of float
@@ -70,16 +71,18 @@ def standard_cautions(*, datum: str, epoch_year: float | None, record_years: flo
                      "four times)")
     if record_years is not None and math.isfinite(record_years) and record_years > 0:
         extrapolation += f", here beyond about {4 * record_years:.0f} years for {record_years:.1f} years of record,"
+    # extrapolation limit and interval advice: practice per [2], [3] (METHODS.md sec. 12)
     cautions.append(
         "Every level is an estimate with an uncertainty shown by its confidence interval. "
-        + extrapolation + " are very uncertain; use the upper bound of the interval where the consequences of "
-        "exceedance are serious [2], [3].")
+        + extrapolation + " are very uncertain; consider the upper bound of the interval where the "
+        "consequences of exceedance are serious.")
     assumptions = ("The methods assume that, after removal of the mean-sea-level trend, storm statistics are "
                    "stationary; that the chosen tail form (generalised extreme value or generalised Pareto) "
                    "holds beyond the observed events; and that return periods are stated either as 1/AEP "
                    "or as average recurrence intervals (each table says which).")
     cautions.append(assumptions)
-    if set(methods) & _JOINT or (recommended_method in _JOINT):
+    methods = set(methods) | ({recommended_method} if recommended_method else set())
+    if not methods or methods & _JOINT:  # stated unless the methods are known and none is a joint one
         cautions.append("The joint-probability methods assume tide and surge (or skew surge) independent, or "
                         "model their dependence; check the interaction tests before relying on them.")
     if interval_minutes is not None and interval_minutes >= 60:
@@ -88,6 +91,7 @@ def standard_cautions(*, datum: str, epoch_year: float | None, record_years: flo
     offsets = [float(x) for x in slr_offsets_m]
     if offsets:
         cautions.append("Future levels add sea-level-rise offsets (" + ", ".join(f"{x:g} m" for x in offsets)
+                        # offset rule of [1]
                         + ") to present levels, assuming storm-tide statistics relative to mean sea level do not "
                         "change; tidal range may change with rise in shallow water.")
     cautions.append("These results are inputs to engineering judgement. Local codes, permits, agency guidance "

@@ -22,11 +22,14 @@ def test_cautions_state_what_practice_requires():
                    "Local codes", "licensed professional"):
         assert needle in text, needle
     assert all(isinstance(c, str) and c for c in cautions)
+    assert "[" not in text  # no dangling citation marks in text shown to readers
 
 
 def test_cautions_adapt_to_missing_datum_and_methods():
     text = " ".join(standard_cautions(datum="unspecified", epoch_year=None))
     assert "not stated" in text and "unknown zero" in text
+    assert "tide and surge" in text  # methods not given: the independence caution stays
+    text = " ".join(standard_cautions(datum="unspecified", epoch_year=None, methods=["annual-maxima"]))
     assert "tide and surge" not in text  # no joint method
     assert "about" in text and "years of record" not in text
 
