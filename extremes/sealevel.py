@@ -69,7 +69,7 @@ from extremes.errors import DataError, ExtremesWarning
 logger = logging.getLogger(__name__)
 
 __all__ = [
-    "SeaLevelScenarios", "read_scenarios", "parse_offsets", "future_return_levels", "sea_level_rise_rows",
+    "SeaLevelScenarios", "read_scenarios", "parse_offsets", "future_return_levels", "present_return_period", "sea_level_rise_rows",
     "Amplification", "amplification_from_curve", "amplification_gumbel", "amplification_gpd",
     "gumbel_scale_of_curve", "Allowance", "allowance_normal", "allowance_from_samples",
     "encounter_probability", "design_return_period", "EncounterProbability",
@@ -353,6 +353,15 @@ def _present_period(curve: ReturnLevelCurve, levels) -> np.ndarray:
     finite = curve.level_m[np.isfinite(curve.level_m)]
     outside = (levels < finite.min()) | (levels > finite.max())
     return np.where(outside, np.nan, periods)
+
+
+def present_return_period(curve: ReturnLevelCurve, level_m) -> np.ndarray:
+    """Return period [years] today of levels ``level_m`` [m] (e.g. future return levels).
+
+    NaN where a level lies outside the curve's range (rarer than its longest period, or more common than its
+    shortest).
+    """
+    return _present_period(curve, level_m)
 
 
 def sea_level_rise_rows(curve: ReturnLevelCurve, *, offsets_m, periods_years) -> list[dict]:

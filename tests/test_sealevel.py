@@ -196,6 +196,8 @@ def test_sea_level_rise_rows_present_period_follows_hunter():
     assert rows[2]["present_return_period_years_of_level"] == pytest.approx(10 * math.e, rel=1e-3)
     assert rows[3]["present_return_period_years_of_level"] == pytest.approx(100 * math.e, rel=1e-3)
     assert rows[5]["present_return_period_years_of_level"] is None  # 100 e^5 years: beyond the curve
+    np.testing.assert_allclose(sealevel.present_return_period(curve, [rows[1]["level_m"], 99.0]), [100.0, np.nan],
+                               rtol=1e-6)
     frame = sealevel.future_return_levels(curve, offsets_m="0,0.1", periods_years=[100])
     assert list(frame["upper_m"] - frame["level_m"]) == pytest.approx([0.2, 0.2])
     assert frame.attrs["datum"] == "test"
