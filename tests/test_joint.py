@@ -143,3 +143,59 @@ def test_tide_band_stratified_variant_runs():
     assert set(res.tail) == {"band 1", "band 2", "band 3"}
     # same independent surges in every band: the stratified answer is close to the pooled one
     np.testing.assert_allclose(res.curve.level_at([10, 100]), plain.curve.level_at([10, 100]), atol=0.1)
+
+
+def test_classic_jpm_unclustered_matches_quad_for_sinusoidal_hourly_tide():
+    # Classic JPM with theta = 1 and a GPD-only residual on a sinusoidal hourly tide: the level with
+    # n_h Q(z) = 1/T must match scipy.integrate.quad over the arcsine density (outside reference).
+    from extremes.joint import classic_joint_probability
+
+    amplitude = 1.2
+    hours = np.arange(int(18.61 * 8766))
+    tide = amplitude * np.cos(2 * np.pi * hours / 12.4206)
+    rng = np.random.default_rng(5)
+    n = 12 * 8766
+    times = pd.Timestamp("2001-01-01", tz="UTC") + pd.to_timedelta(np.arange(n), unit="h")
+    residual = pd.Series(rng.gumbel(0.0, 0.08, n), index=times)
+    res = classic_joint_probability(tide, residual, clustering="none", n_bootstrap=0)
+    tail = res.tail["all"]
+    dist = SurgeDistribution(residual.to_numpy(), tail["threshold_m"], tail["tail_probability"], tail["scale_m"],
+                             tail["shape"])
+    for t in (10.0, 100.0):
+        z = res.curve.level_at([t])[0]
+        # the sampled sinusoid is close to the arcsine law: compare with the integral at this level
+        q = _quad_exceedance(z, amplitude, dist.sf)
+        assert 8766 * q == pytest.approx(1 / t, rel=0.02)
+    assert res.curve.method == "joint-probability"
+
+
+def test_compare_methods_rule_and_table():
+    from extremes.curves import DENSE_PERIODS_YEARS, ReturnLevelCurve
+    from extremes.joint import compare_methods
+
+    p = DENSE_PERIODS_YEARS
+
+    def curve(method, shift):
+        lv = 3.0 + shift + 0.2 * np.log(p)
+        return ReturnLevelCurve(method=method, periods_years=p, level_m=lv, lower_m=lv - 0.1, upper_m=lv + 0.1,
+                                period_definition="1/rate")
+
+    curves = [curve("skew-surge-joint-probability", 0.0), curve("annual-maxima", 0.2),
+              curve("peaks-over-threshold", -0.1)]
+    cmp = compare_methods(curves, record_years=30.0)
+    assert cmp.recommended_method == "skew-surge-joint-probability"
+    assert set(cmp.table.columns) == {"method", "return_period_years", "level_m", "lower_m", "upper_m",
+                                      "confidence"}
+    assert cmp.spread_m.loc[100.0] == pytest.approx(0.3)
+
+    class Dependent:
+        level_dependent = True
+
+    cmp = compare_methods(curves, record_years=30.0, interaction=Dependent())
+    assert cmp.recommended_method == "peaks-over-threshold"
+    assert "depends on tide level" in cmp.reason
+    assert compare_methods(curves, record_years=30.0, interaction=Dependent(),
+                           stratified=True).recommended_method == "skew-surge-joint-probability"
+    assert compare_methods(curves, record_years=8.0).recommended_method == "annual-maxima"
+    with pytest.raises(DataError):
+        compare_methods([], record_years=10.0)

@@ -1,0 +1,146 @@
+"""Comparison of methods and the recommended method, by a documented rule.
+
+Rule (this package's, in order; never the highest or lowest level):
+
+1. ``skew-surge-joint-probability`` when the skew-surge record covers >= ``min_record_years_jpm`` (10) years
+   and the interaction test does not reject independence of skew surge and tide level (or the tide-band
+   stratified variant was used): it uses every tide, is free of timing errors and extrapolates through the
+   surge tail alone [1]_.
+2. ``joint-probability`` (revised JPM, hourly) under the same conditions when no skew-surge curve is given.
+3. Otherwise ``peaks-over-threshold`` (more data than annual maxima) when the record covers >= 20 years,
+   else ``annual-maxima``; direct fits on records shorter than ~20 years extrapolate poorly and are
+   flagged. Annual maxima (GEV) always remain a check.
+
+A method whose curve is missing at the comparison periods is skipped. The reason states the record length,
+the interaction verdict and any diagnostics passed in.
+
+References
+----------
+.. [1] C. Batstone et al., "A UK best-practice approach for extreme sea-level analysis along complex
+   topographic coastlines," Ocean Eng., vol. 71, pp. 28-39, 2013, doi:10.1016/j.oceaneng.2013.02.003.
+"""
+from __future__ import annotations
+
+import logging
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+
+from extremes.errors import DataError
+from extremes.jsonable import to_jsonable
+
+logger = logging.getLogger(__name__)
+
+__all__ = ["MethodComparison", "compare_methods", "COMPARISON_PERIODS_YEARS"]
+
+#: default periods of the comparison table [years]
+COMPARISON_PERIODS_YEARS = (1.5, 2, 5, 10, 20, 50, 100, 200, 500, 1000)
+
+
+@dataclass(frozen=True, repr=False)
+class MethodComparison:
+    """All methods at common return periods and the recommended one.
+
+    Attributes
+    ----------
+    table : pandas.DataFrame
+        ``method, return_period_years, level_m, lower_m, upper_m, confidence`` [m, years].
+    recommended_method : str
+        The method the rule picks (module docstring).
+    reason : str
+        Why, in words.
+    spread_m : pandas.Series
+        Highest minus lowest level across methods at each period. [m]
+    """
+
+    table: pd.DataFrame
+    recommended_method: str
+    reason: str
+    spread_m: pd.Series = field(default_factory=lambda: pd.Series(dtype=float))
+
+    def __repr__(self) -> str:
+        return (f"MethodComparison(n_methods={self.table['method'].nunique()}, "
+                f"recommended_method={self.recommended_method!r})")
+
+    def to_dict(self) -> dict:
+        """JSON-ready dictionary."""
+        return to_jsonable({"table": self.table, "recommended_method": self.recommended_method,
+                            "reason": self.reason,
+                            "spread_m": {str(k): v for k, v in self.spread_m.items()}})
+
+
+def compare_methods(curves, *, record_years, interaction=None, stratified=False, diagnostics=None,
+                    periods_years=COMPARISON_PERIODS_YEARS, min_record_years_jpm=10.0) -> MethodComparison:
+    """One table of every method's levels and a recommended method with its reason.
+
+    Parameters
+    ----------
+    curves : dict or iterable of ReturnLevelCurve
+        Curves by method name (or curves, keyed by their ``method``).
+    record_years : float
+        Length of the usable record. [years]
+    interaction : extremes.surge.InteractionTests, optional
+        Interaction tests; ``level_dependent`` true rules out the unstratified joint methods.
+    stratified : bool
+        Whether the joint-probability curves used the tide-band stratified surge distribution.
+    diagnostics : dict, optional
+        ``{method: text}`` of fit diagnostics to carry into the reason (e.g. a poor fit).
+    periods_years : sequence of float
+        Periods of the table. [years]
+    min_record_years_jpm : float
+        Shortest record for which a joint method is preferred. [years]
+
+    Returns
+    -------
+    MethodComparison
+    """
+    if not isinstance(curves, dict):
+        curves = {c.method: c for c in curves}
+    if not curves:
+        raise DataError("curves is empty; give at least one ReturnLevelCurve")
+    if not np.isfinite(record_years) or record_years <= 0:
+        raise DataError(f"record_years must be > 0 [years]; got {record_years!r}")
+    periods = np.asarray(periods_years, dtype=float)
+    frames = []
+    for name, c in curves.items():
+        ok = periods[(periods >= c.periods_years[0]) & (periods <= c.periods_years[-1])]
+        t = c.table(ok)
+        t["method"] = name
+        frames.append(t)
+    table = pd.concat(frames, ignore_index=True)
+    table.attrs["units"] = "m"
+    spread = table.groupby("return_period_years")["level_m"].agg(lambda v: v.max() - v.min())
+    dependent = bool(getattr(interaction, "level_dependent", False)) if interaction is not None else None
+    joint_ok = record_years >= min_record_years_jpm and (not dependent or stratified)
+    why = [f"record of {record_years:.1f} years"]
+    if interaction is None:
+        why.append("no interaction test given (independence of tide and surge assumed)")
+    elif dependent:
+        why.append("skew surge depends on tide level (interaction test)" +
+                   ("; the tide-band stratified convolution accounts for it" if stratified else ""))
+    else:
+        why.append("skew surge independent of tide level (interaction test)")
+    pick = None
+    if joint_ok:
+        for name in ("skew-surge-joint-probability", "joint-probability"):
+            if name in curves:
+                pick = name
+                why.append(f"{name} uses every tide of the record and the full nodal cycle of tides, so it "
+                           "extrapolates through the surge tail alone")
+                break
+    elif record_years < min_record_years_jpm:
+        why.append(f"shorter than {min_record_years_jpm:g} years: the joint methods' surge tail and extremal "
+                   "index are not trusted")
+    if pick is None:
+        order = ("peaks-over-threshold", "annual-maxima", "r-largest") if record_years >= 20 else (
+            "annual-maxima", "peaks-over-threshold", "r-largest")
+        pick = next((m for m in order if m in curves), next(iter(curves)))
+        why.append(f"{pick} fits the total level directly")
+        if record_years < 20:
+            why.append("direct fits on fewer than ~20 years extrapolate poorly: treat long periods with care")
+    if "annual-maxima" in curves and pick != "annual-maxima":
+        why.append("annual maxima (GEV) kept as a check")
+    for name, text in (diagnostics or {}).items():
+        why.append(f"{name}: {text}")
+    return MethodComparison(table=table, recommended_method=pick, reason="; ".join(why) + ".", spread_m=spread)
