@@ -17,6 +17,7 @@ from extremes.extremal.distributions import (
 from extremes.extremal.nonstationary import NonStationaryGEVFit, fit_gev_nonstationary
 from extremes.extremal.samples import (
     SAMPLE_METHODS, AnnualMaxima, Peaks, RLargest, annual_maxima, observed_years, peaks_over_threshold, r_largest,
+    read_annual_maxima,
 )
 from extremes.extremal.threshold import (
     ThresholdChoice, mean_residual_life, parameter_stability, return_level_by_threshold, select_threshold,
@@ -30,7 +31,7 @@ __all__ = [
     "FIT_METHODS", "MODELS", "CI_METHODS", "BOOTSTRAP_METHODS", "SAMPLE_METHODS",
     "GEVFit", "GPDFit", "NonStationaryGEVFit", "AnnualMaxima", "Peaks", "RLargest", "ThresholdChoice",
     "GoodnessOfFit",
-    "annual_maxima", "r_largest", "peaks_over_threshold", "observed_years",
+    "annual_maxima", "r_largest", "peaks_over_threshold", "observed_years", "read_annual_maxima",
     "fit_gev", "fit_gumbel", "fit_gpd", "fit_exponential", "fit_gev_rlargest", "fit_gev_many", "fit_gpd_many",
     "fit_gev_rlargest_many", "fit_gev_nonstationary",
     "gev_loglik", "gumbel_loglik", "gpd_loglik", "exponential_loglik", "gev_rlargest_loglik",

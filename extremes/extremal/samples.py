@@ -393,5 +393,89 @@ def r_largest(level_m, *, r=5, min_separation_hours=72.0, min_coverage=0.9, wate
     return RLargest(values, times, int(r), am.dropped, float(min_separation_hours))
 
 
+_UNIT_FACTORS = {"m": 1.0, "cm": 0.01, "mm": 0.001, "ft": 0.3048}
+
+
+def read_annual_maxima(path, *, units="m", several_per_year="raise"):
+    """Read a two-column table of annual maxima: year (or a time stamp) and value; header optional.
+
+    Parameters
+    ----------
+    path : str or pathlib.Path
+        Delimited text (comma, semicolon, tab or whitespace). Blank lines and lines starting with ``#`` are
+        skipped.
+    units : {"m", "cm", "mm", "ft"}
+        Units of the values; returned in metres.
+    several_per_year : {"raise", "none"}
+        What to do when a year appears on more than one row (the file is a time series, not annual maxima):
+        raise :class:`DataError`, or return None so that the caller reads it as a record.
+
+    Returns
+    -------
+    pandas.Series or None
+        Maxima [m] indexed by year (int), sorted.
+
+    Raises
+    ------
+    DataError
+        Unreadable file, not two columns, a bad number or year (the message names the line).
+    """
+    from pathlib import Path
+
+    if units not in _UNIT_FACTORS:
+        raise ValueError(f"units must be one of {sorted(_UNIT_FACTORS)}; got {units!r}")
+    path = Path(path)
+    try:
+        text = path.read_text(encoding="utf-8-sig")
+    except (OSError, UnicodeDecodeError) as err:
+        raise DataError(f"{path}: cannot read the file ({err})") from err
+    rows = []
+    for lineno, line in enumerate(text.splitlines(), start=1):
+        line = line.strip()
+        if not line or line.startswith("#"):
+            continue
+        for sep in (",", ";", "\t"):
+            if sep in line:
+                parts = [p.strip().strip('"').strip("'") for p in line.split(sep)]
+                break
+        else:
+            parts = line.split()
+        rows.append((lineno, parts))
+    if not rows:
+        raise DataError(f"{path}: no data rows; expected two columns (year or time, value)")
+    years, values = [], []
+    for k, (lineno, parts) in enumerate(rows):
+        if len(parts) != 2:
+            raise DataError(f"{path}, line {lineno}: expected 2 columns (year or time, value); got {len(parts)}")
+        first, second = parts
+        try:
+            value = float(second)
+        except ValueError:
+            if k == 0:
+                continue  # header row
+            raise DataError(f"{path}, line {lineno}: value {second!r} is not a number") from None
+        try:
+            year = int(float(first)) if first.replace(".", "", 1).lstrip("-").isdigit() else None
+            if year is None:
+                year = pd.Timestamp(first).year
+        except (ValueError, TypeError):
+            raise DataError(f"{path}, line {lineno}: {first!r} is neither a year nor a time stamp") from None
+        if not np.isfinite(value):
+            raise DataError(f"{path}, line {lineno}: value {second!r} is not a finite number")
+        years.append(year)
+        values.append(value * _UNIT_FACTORS[units])
+    if not values:
+        raise DataError(f"{path}: no data rows; expected two columns (year or time, value)")
+    ser = pd.Series(values, index=pd.Index(years, name="year"), name="annual_max_m", dtype=float)
+    if ser.index.has_duplicates:
+        if several_per_year == "none":
+            return None
+        dup = int(ser.index[ser.index.duplicated()][0])
+        raise DataError(f"{path}: year {dup} appears on more than one row; expected one maximum per year")
+    ser = ser.sort_index()
+    ser.attrs["units"] = "m"
+    return ser
+
+
 __all__ = ["SAMPLE_METHODS", "AnnualMaxima", "Peaks", "RLargest", "annual_maxima", "peaks_over_threshold",
-           "r_largest", "observed_years"]
+           "r_largest", "observed_years", "read_annual_maxima"]

@@ -505,7 +505,7 @@ def return_levels(fit, periods_years, *, ci="profile", confidence=0.95, n_bootst
         usable = T > 1
         what = "periods of 1 year (AEP 1: no finite annual-maximum level)"
     if not usable.all():
-        warnings.warn(f"no return level for {what}: {list(T[~usable])}; reported as NaN", ExtremesWarning,
+        warnings.warn(f"no return level for {what}: {[float(t) for t in T[~usable]]}; reported as NaN", ExtremesWarning,
                       stacklevel=2)
     Tu = T[usable]
     if Tu.size:
