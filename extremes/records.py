@@ -435,10 +435,9 @@ def _read_text(path: Path, *, time_columns, level_column, time_format, offset, u
                                            level_column=level_column, time_format=time_format,
                                            decimal=decimal)
     first_data_line = n_lead + (2 if has_header else 1)
-    usecols = list(dict.fromkeys(time_cols + [level_col]))
     kwargs: dict[str, Any] = dict(
         sep=sep if sep != r"\s+" else None, delim_whitespace=False, skiprows=n_lead, comment=None,
-        header=0 if has_header else None, names=names, usecols=usecols,
+        header=0 if has_header else None, names=names, index_col=False,
         dtype={col: "str" for col in time_cols}, decimal=decimal, compression=compression,
         skip_blank_lines=True, engine="c", skipinitialspace=True, na_values=["", "NA", "NaN", "nan", "NULL", "null", "-"],
         keep_default_na=False,
@@ -451,7 +450,8 @@ def _read_text(path: Path, *, time_columns, level_column, time_format, offset, u
     except pd.errors.EmptyDataError:
         raise DataError(f"{source}: empty file, expected a header row and rows of times and levels") from None
     except pd.errors.ParserError as err:
-        raise DataError(f"{source}: ragged rows: {_short(err)}; expected {len(header)} fields per row "
+        message = _short(err).replace("Error tokenizing data. C error: ", "")
+        raise DataError(f"{source}: ragged rows: {message}; expected {len(header)} fields per row "
                         f"separated by {_sep_name(sep)}") from None
     except (UnicodeDecodeError, ValueError, OSError, EOFError) as err:
         raise DataError(f"{source}: cannot be read as delimited text ({_short(err)})") from None
@@ -492,7 +492,14 @@ def _read_text(path: Path, *, time_columns, level_column, time_format, offset, u
 
 
 def _read_csv_checked(path: Path, kwargs: dict, *, ncols: int) -> pd.DataFrame:
-    frame = pd.read_csv(path, **kwargs)
+    import warnings
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", pd.errors.ParserWarning)
+        try:
+            frame = pd.read_csv(path, **kwargs)
+        except pd.errors.ParserWarning:
+            raise pd.errors.ParserError(f"rows hold more fields than the header's {ncols}") from None
     return frame
 
 
@@ -515,37 +522,38 @@ def _choose_columns(source, header, rows, *, time_columns, level_column, time_fo
         return [row[position] for row in rows if position < len(row) and row[position].strip()]
 
     if time_columns is None:
-        time_like = [h for h in header if (vals := column_values(h))
-                     and all(_looks_like_time(v, time_format) for v in vals[:5])]
-        if len(time_like) == 1:
+        time_like = [h for h in header if (vals := column_values(h)[:10])
+                     and sum(_looks_like_time(v, time_format) for v in vals) >= len(vals) / 2]
+        clocks = [h for h in header if (vals := column_values(h)[:10])
+                  and sum(bool(_TIME_OF_DAY_RE.match(v)) for v in vals) > len(vals) / 2]
+        pairs = []
+        for clock in clocks:
+            position = header.index(clock)
+            for date in header:
+                if date in clocks:
+                    continue
+                other = header.index(date)
+                joined = [row[other].strip() + " " + row[position].strip() for row in rows[:10]
+                          if max(other, position) < len(row)]
+                if joined and sum(_looks_like_time(v, time_format) for v in joined) > len(joined) / 2:
+                    pairs.append([date, clock])
+        if len(pairs) == 1 and (not time_like or time_like == pairs[0][:1]):
+            time_columns = pairs[0]  # a date column and a time-of-day column
+        elif len(time_like) == 1:
             time_columns = time_like
         elif len(time_like) > 1:
             raise DataError(f"{source}: several columns hold time stamps ({', '.join(map(repr, time_like))}); "
                             f"choose one with --time-column NAME")
+        elif len(pairs) == 0 and len(named := [h for h in header if _TIME_NAME_RE.search(h)]) == 1:
+            time_columns = named  # named like a time column; parsing will say which line is wrong
+        elif len(pairs) > 1:
+            raise DataError(f"{source}: several date and time-of-day columns ({pairs}); choose them with "
+                            f"--time-column DATE --time-column TIME")
         else:
-            clocks = [h for h in header if (vals := column_values(h))
-                      and all(_TIME_OF_DAY_RE.match(v) for v in vals[:5])]
-            pairs = []
-            for clock in clocks:
-                position = header.index(clock)
-                for date in header:
-                    if date in clocks:
-                        continue
-                    other = header.index(date)
-                    joined = [row[other].strip() + " " + row[position].strip() for row in rows[:5]
-                              if max(other, position) < len(row)]
-                    if joined and all(_looks_like_time(v, time_format) for v in joined):
-                        pairs.append([date, clock])
-            if len(pairs) == 1:
-                time_columns = pairs[0]
-            elif len(pairs) > 1:
-                raise DataError(f"{source}: several date and time-of-day columns ({pairs}); choose them with "
-                                f"--time-column DATE --time-column TIME")
-            else:
-                hint = ("; if stamps are not ISO 8601 give --time-format FORMAT" if not time_format else "")
-                raise DataError(f"{source}: found no column of time stamps among {available}; "
-                                f"expected ISO 8601 times (e.g. 2020-01-01T00:00Z) in one column, or name it "
-                                f"with --time-column NAME{hint}")
+            hint = ("; if stamps are not ISO 8601 give --time-format FORMAT" if not time_format else "")
+            raise DataError(f"{source}: found no column of time stamps among {available}; "
+                            f"expected ISO 8601 times (e.g. 2020-01-01T00:00Z) in one column, or name it "
+                            f"with --time-column NAME{hint}")
     if level_column is None:
         rest = [h for h in header if h not in time_columns]
         numeric = [h for h in rest if (vals := column_values(h))
