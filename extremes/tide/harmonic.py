@@ -55,7 +55,7 @@ class _Basis:
         interpolated in between: N moves 0.053 deg a day, so the interpolation error is below 1e-5 deg.
         """
         args = doodson_variables_days(d)
-        phase = args @ self.doodson.T + self.offset
+        phase = args @ (self.doodson.T * _RAD)
         day = np.floor(d).astype(np.int64)
         k0 = int(day.min())
         nodes = np.arange(k0, int(day.max()) + 2, dtype=float)
@@ -63,12 +63,14 @@ class _Basis:
         fam_f, fam_u = family_factors(-node_args[:, 4], node_args[:, 3] if self.needs_perigee else None)
         fam_u = np.rad2deg(np.unwrap(np.deg2rad(fam_u), axis=0))  # continuous between daily nodes
         f_nodes = np.exp(np.log(np.maximum(fam_f, 1e-300)) @ self.f_pow)
-        u_nodes = fam_u @ self.u_mul
+        u_nodes = (fam_u @ self.u_mul + self.offset) * _RAD
         idx = day - k0
         w = (d - day)[:, None]
-        f = f_nodes[idx] * (1.0 - w) + f_nodes[idx + 1] * w
-        phase += u_nodes[idx] * (1.0 - w) + u_nodes[idx + 1] * w
-        return phase * _RAD, f
+        phase += u_nodes[idx]
+        phase += w * np.diff(u_nodes, axis=0)[idx]
+        f = f_nodes[idx]
+        f += w * np.diff(f_nodes, axis=0)[idx]
+        return phase, f
 
 
 def _synthesise(d: np.ndarray, basis: _Basis, amplitudes_m: np.ndarray, phases_deg: np.ndarray) -> np.ndarray:
@@ -544,8 +546,13 @@ ho (f_i/f_r)`-weighted columns to r's pair (constrained-column form), so the fit
     if not names:
         raise DataError(f"level_m: a span of {span_hours:.1f} h resolves no constituent "
                         f"(M2 needs {360 * rayleigh / 28.9841042:.1f} h)")
-    inference = _resolve_inference(
-        infer, names, lambda nm: get_constituent(nm).speed_deg_per_hour < nyquist)
+    def unresolved(nm):  # inferred only when below Nyquist and not resolved from its reference
+        speed = get_constituent(nm).speed_deg_per_hour
+        ref = (infer.get(nm, ("",))[0] if isinstance(infer, dict) else EQUILIBRIUM_INFERENCE.get(nm, ("",))[0])
+        ref_speed = get_constituent(ref).speed_deg_per_hour if ref else np.inf
+        return speed < nyquist and abs(speed - ref_speed) < limit
+
+    inference = _resolve_inference(infer, names, unresolved)
     inferred = list(inference)
     all_names = names + inferred
     m_fit = len(names)
@@ -636,17 +643,18 @@ ho (f_i/f_r)`-weighted columns to r's pair (constrained-column form), so the fit
         if h > 0:
             se_h = float(np.sqrt(max((a * a * va + b * b * vb + 2 * a * b * cab) / h**2, 0.0)))
             se_g = float(np.rad2deg(np.sqrt(max((b * b * va + a * a * vb - 2 * a * b * cab) / h**4, 0.0))))
+            se_g = min(se_g, 180.0)  # the linearisation fails for amplitudes near zero: phase undetermined
         else:
             se_h, se_g = float(np.sqrt(0.5 * (va + vb))), 180.0
         snr = float((h / se_h) ** 2) if se_h > 0 else float("inf")
-        item = FittedConstituent(nm, float(speeds_all[j]), h, g, se_h, se_g, snr, False)
+        item = FittedConstituent(nm, round(float(speeds_all[j]), 7), h, g, se_h, se_g, snr, False)
         fitted.append(item)
         by_name[nm] = item
     for nm in inferred:
         ref, rho, dlt = inference[nm]
         r = by_name[ref]
         fitted.append(FittedConstituent(
-            nm, get_constituent(nm).speed_deg_per_hour, rho * r.amplitude_m, (r.phase_deg + dlt) % 360.0,
+            nm, round(get_constituent(nm).speed_deg_per_hour, 7), rho * r.amplitude_m, (r.phase_deg + dlt) % 360.0,
             rho * r.amplitude_se_m, r.phase_se_deg, r.snr, True))
     index_valid = values.index.tz_convert("UTC")
     mid = index_valid[0] + (index_valid[-1] - index_valid[0]) / 2
