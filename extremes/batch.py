@@ -852,7 +852,6 @@ def run_batch(stations: Sequence[Station | GriddedBlock], *, out_dir: str | os.P
     out_dir = Path(out_dir)
     if out_dir.exists() and not out_dir.is_dir():
         raise OutputError(f"{out_dir}: exists and is not a folder")
-    out_dir.mkdir(parents=True, exist_ok=True)
     out_dir = out_dir.resolve()
     study = study if study is not None else study_station
     base_seed = getattr(options, "seed", None)
@@ -867,6 +866,11 @@ def run_batch(stations: Sequence[Station | GriddedBlock], *, out_dir: str | os.P
         scheduler=scheduler, workers=n_workers)
     with context as active:
         from distributed import as_completed
+
+        try:
+            out_dir.mkdir(parents=True, exist_ok=True)
+        except OSError as err:
+            raise OutputError(f"{out_dir}: cannot create the results folder ({err.strerror})") from err
 
         futures = {}
         for i, item in enumerate(items):
