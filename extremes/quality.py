@@ -18,7 +18,7 @@ that applies wins, so the counts add up to the rows read):
    being flagged;
 7. ``spike`` -- :math:`|x - \tilde{x}| > k\,\hat\sigma` where :math:`\tilde{x}` is a running median of the
    neighbours: the mean of the median of the samples in the half window before and the median of those in
-   the half window after (``spike_window_hours`` = 1 h in all, at least 2 samples each side, so the tide is
+   the half window after (``spike_window_hours`` = 1 h in all, at least 3 samples each side, so the tide is
    followed without lag and a sample never predicts itself; flat lines are taken out first), :math:`\hat\sigma = 1.4826` times the median
    absolute deviation of :math:`x - \tilde{x}` over the record, and ``spike_k`` :math:`k=5` [1]_. On the raw level this catches isolated bad readings; once the tide is known,
    :meth:`QualityReport.with_residual_spikes` applies the same test to the non-tidal residual;
@@ -163,7 +163,7 @@ class QualityReport:
         spike_k : float, keyword-only
             Threshold in robust standard deviations.
         spike_window_hours : float, keyword-only
-            Window of the running median of the neighbours [h] (at least 2 samples each side).
+            Window of the running median of the neighbours [h] (at least 3 samples each side).
 
         Returns
         -------
@@ -284,7 +284,7 @@ def check_record(record: GaugeRecord, *, range_factor: float = 3.0, spike_k: flo
     spike_k : float, keyword-only
         Spike threshold in robust standard deviations of (level - running median).
     spike_window_hours : float, keyword-only
-        Window of the running median of the neighbours for spikes [h] (at least 2 samples each side).
+        Window of the running median of the neighbours for spikes [h] (at least 3 samples each side).
     flatline_min_run : int, keyword-only
         Fewest consecutive identical readings that make a flat line.
     flatline_min_hours : float, keyword-only
@@ -349,15 +349,16 @@ def check_record(record: GaugeRecord, *, range_factor: float = 3.0, spike_k: flo
         rows = order[repeated]
         rows = rows[np.lexsort((rows, values[rows], stamps[rows]))]
         ts, vs = stamps[rows], values[rows]
-        same_time = np.concatenate([[False], ts[1:] == ts[:-1]])
-        identical = same_time & np.concatenate([[False], vs[1:] == vs[:-1]])
-        group = np.cumsum(~same_time) - 1
-        starts = np.flatnonzero(~same_time)
-        ends = np.append(starts[1:], len(ts)) - 1
-        conflicting_group = vs[ends] != vs[starts]  # values are sorted within a stamp
-        conflicting = conflicting_group[group] & ~identical
-        codes[rows[identical]] = _CODE["duplicate"]
-        codes[rows[conflicting]] = _CODE["conflicting_duplicate"]
+        if len(rows):
+            same_time = np.concatenate([[False], ts[1:] == ts[:-1]])
+            identical = same_time & np.concatenate([[False], vs[1:] == vs[:-1]])
+            group = np.cumsum(~same_time) - 1
+            starts = np.flatnonzero(~same_time)
+            ends = np.append(starts[1:], len(ts)) - 1
+            conflicting_group = vs[ends] != vs[starts]  # values are sorted within a stamp
+            conflicting = conflicting_group[group] & ~identical
+            codes[rows[identical]] = _CODE["duplicate"]
+            codes[rows[conflicting]] = _CODE["conflicting_duplicate"]
         u_rows = order[codes[order] == 0]
     ut, uv = stamps[u_rows], values[u_rows].copy()
 
@@ -439,7 +440,7 @@ def _sorted_unique(values: np.ndarray) -> np.ndarray:
 def _half_window(interval: pd.Timedelta, hours: float) -> int:
     if pd.isna(interval) or interval <= pd.Timedelta(0):
         return 2
-    return max(2, int(round(pd.Timedelta(hours=hours) / interval / 2.0)))
+    return max(3, int(round(pd.Timedelta(hours=hours) / interval / 2.0)))
 
 
 def _spikes(work: np.ndarray, interval, k: float, hours: float, *, times) -> tuple[np.ndarray, float]:
@@ -560,10 +561,10 @@ def datum_shift_candidates(level_m: pd.Series, *, interval: pd.Timedelta | None 
 
     Monthly means (months at least ``min_month_completeness`` complete) are detrended with the
     Theil-Sen slope [3]_ and de-seasoned with the median of each calendar month; binary segmentation [2]_
-    then splits at the month :math:`k` maximising
-    :math:`T_k = |\mathrm{med}(x_{k:}) - \mathrm{med}(x_{:k})| / (1.25\,\hat\sigma\sqrt{1/k + 1/(n-k)})`
-    with :math:`\hat\sigma` from the median absolute month-to-month difference (insensitive to the steps)
-    and 1.25 :math:`\approx\sqrt{\pi/2}` for the variance of a median. A split with :math:`T_k >`
+    then splits at the month :math:`k` maximising :math:`T_k = |\hat\delta_k| / \mathrm{se}(\hat\delta_k)`,
+    the step :math:`\hat\delta_k` of a least-squares fit of a line plus a step at :math:`k`, with the noise
+    scale :math:`\hat\sigma` taken robustly from the median absolute month-to-month difference (insensitive
+    to the steps and to the trend). A split with :math:`T_k >`
     ``threshold`` is a candidate; each side is searched again. The sizes are then estimated together by
     least squares of the de-seasoned monthly means on a line plus one step per candidate.
 
@@ -611,13 +612,17 @@ def datum_shift_candidates(level_m: pd.Series, *, interval: pd.Timedelta | None 
     found: list[tuple[int, float]] = []
 
     def search(lo: int, hi: int) -> None:
-        if len(found) >= max_shifts or hi - lo < 2 * min_segment_months:
+        m = hi - lo
+        if len(found) >= max_shifts or m < 2 * min_segment_months:
             return
-        segment = residual[lo:hi]
+        y = x_deseasoned[lo:hi]
+        t = t_years[lo:hi] - t_years[lo:hi].mean()
         best_k, best_t = None, 0.0
-        for k in range(min_segment_months, len(segment) - min_segment_months + 1):
-            stat = abs(np.median(segment[k:]) - np.median(segment[:k])) / (
-                1.25 * sigma * math.sqrt(1.0 / k + 1.0 / (len(segment) - k)))
+        for k in range(min_segment_months, m - min_segment_months + 1):
+            design = np.column_stack([np.ones(m), t, (np.arange(m) >= k).astype(float)])
+            coef, *_ = np.linalg.lstsq(design, y, rcond=None)
+            unscaled = np.linalg.inv(design.T @ design)[2, 2]
+            stat = abs(coef[2]) / (sigma * math.sqrt(unscaled))
             if stat > best_t:
                 best_k, best_t = k, stat
         if best_k is None or best_t <= threshold:
