@@ -451,12 +451,15 @@ def completed_results(station_dir: str | os.PathLike) -> dict | None:
     return results
 
 
-def study_station(station: Station, *, options, seed: int, out_dir: Path, overwrite: bool = False) -> dict:
+def study_station(station: Station, *, options, seed: int, out_dir: Path, overwrite: bool = False,
+                  figures: bool = True) -> dict:
     """The full study of one station, written to ``out_dir``; returns its ``results.json`` mapping.
 
     Runs :func:`extremes.study.run_study` (a file) or :func:`extremes.study.run_study_series` (an
     in-memory series) with ``options`` whose seed is replaced by ``seed``, then
-    :func:`extremes.results.write_study`.
+    :func:`extremes.results.write_study` (with the figures and HTML report unless ``figures=False``).
+    The mapping returned is read back from the ``results.json`` written, so that a station studied now
+    and one found done by a later run give the same numbers.
     """
     from extremes import results as results_module
     from extremes import study as study_module
@@ -469,8 +472,11 @@ def study_station(station: Station, *, options, seed: int, out_dir: Path, overwr
                                                options=options)
     else:
         result = study_module.run_study(station.path, reader=dict(station.reader), options=options)
-    results_module.write_study(result, out_dir, overwrite=overwrite)
-    return result.to_dict()
+    results_module.write_study(result, out_dir, overwrite=overwrite, figures=figures)
+    document = completed_results(out_dir)
+    if document is None:
+        raise OutputError(f"{out_dir}: the study wrote no complete results.json")
+    return document
 
 
 def _one_line(err: BaseException) -> str:

@@ -1,6 +1,7 @@
 """``extremes batch``: one study per record (or per point of a gridded model output) on dask."""
 from __future__ import annotations
 
+import functools
 import json
 import sys
 from pathlib import Path
@@ -47,12 +48,14 @@ def _slr_callback(ctx, param, value):
               help="Address of a running dask scheduler (e.g. tcp://host:8786); default a local cluster.")
 @click.option("--workers", type=click.IntRange(min=1), metavar="N",
               help="Worker processes of the local cluster (default: one per CPU).")
+@click.option("--figures/--no-figures", default=True, show_default=True,
+              help="Draw each station's figures and HTML report (--no-figures: numbers and tables only).")
 @options.overwrite_option
 @click.option("--progress", "show_progress", is_flag=True, help="Show a progress bar on stderr even when not a TTY.")
 @options.json_option
 @click.pass_context
 def command(ctx, records, out_dir, manifest, gridded, block_size, reader, epoch_year, periods, slr, seed, config,
-            scheduler, workers, overwrite, show_progress, as_json):
+            scheduler, workers, figures, overwrite, show_progress, as_json):
     """Run the whole study on every RECORD (files or glob patterns), on every record of a --manifest and on
     every point of --gridded model output, one dask task per record (per block of points), and write one
     folder per station under --out with a summary of all.
@@ -105,9 +108,11 @@ def command(ctx, records, out_dir, manifest, gridded, block_size, reader, epoch_
         bar.set_postfix_str(name[:30], refresh=False)
         bar.update(1)
 
+    study = batch.study_station if figures else functools.partial(batch.study_station, figures=False)
     try:
         summary = batch.run_batch(stations, out_dir=out_dir, options=study_options, scheduler=scheduler,
-                                  workers=workers, overwrite=overwrite, progress=progress, errors="ignore")
+                                  workers=workers, overwrite=overwrite, progress=progress, study=study,
+                                  errors="ignore")
     finally:
         bar.close()
 
