@@ -24,6 +24,7 @@ import hashlib
 import io
 import logging
 import re
+import zlib
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, Sequence
@@ -308,6 +309,8 @@ def _sniff(path: Path) -> tuple[list[str], int, str | None]:
             raw = handle.read(_SNIFF_BYTES)
     except (OSError, EOFError, gzip.BadGzipFile) as err:
         raise DataError(f"{path}: cannot be read as a gzip-compressed text file ({err})") from None
+    if raw.startswith(b"\xef\xbb\xbf"):
+        raw = raw[3:]  # UTF-8 byte-order mark (spreadsheet exports); pandas skips it too
     if b"\x00" in raw:
         raise DataError(f"{path}: looks binary (NUL bytes), expected a delimited text file or NetCDF")
     try:
@@ -453,7 +456,7 @@ def _read_text(path: Path, *, time_columns, level_column, time_format, offset, u
         message = _short(err).replace("Error tokenizing data. C error: ", "")
         raise DataError(f"{source}: ragged rows: {message}; expected {len(header)} fields per row "
                         f"separated by {_sep_name(sep)}") from None
-    except (UnicodeDecodeError, ValueError, OSError, EOFError) as err:
+    except (UnicodeDecodeError, ValueError, OSError, EOFError, zlib.error) as err:
         raise DataError(f"{source}: cannot be read as delimited text ({_short(err)})") from None
     if frame.empty:
         raise DataError(f"{source}: header only, no data rows (header: {', '.join(header)})")

@@ -287,3 +287,17 @@ def test_random_csv_like_text_gives_only_extremes_errors(tmp_path, rows, sep, ut
     except ExtremesError:
         return
     assert str(record.water_level_m.index.tz) == "UTC"
+
+
+def test_byte_order_mark_and_windows_line_ends(tmp_path):
+    path = tmp_path / "r.csv"
+    path.write_bytes(b"\xef\xbb\xbftime,level\r\n" + b"".join(
+        f"2020-01-01T0{i}:00Z,{v}\r\n".encode() for i, v in enumerate(LEVELS)))
+    assert_series(read_record(path))
+
+
+def test_truncated_gzip(tmp_path):
+    path = tmp_path / "r.csv.gz"
+    path.write_bytes(gzip.compress(b"time,level\n" + b"2020-01-01T00:00Z,1\n" * 50)[:40])
+    with pytest.raises(DataError, match="r.csv.gz"):
+        read_record(path)
