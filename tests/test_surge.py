@@ -306,3 +306,55 @@ def test_residual_rejects_duplicates():
     index = pd.DatetimeIndex(["2000-01-01", "2000-01-01"], tz="UTC")
     with pytest.raises(DataError, match="duplicated"):
         surge.residual_from_prediction(pd.Series([1.0, 2.0], index=index), [0.0, 0.0])
+
+
+# ------------------------------------------------------------------------------------------------------
+# wrappers taking a TideModel (extremes.tide) and the invented harbour's demo record
+# ------------------------------------------------------------------------------------------------------
+def _model(datum="test"):
+    from extremes.tide.constituents import get_constituent
+    from extremes.tide.harmonic import FittedConstituent, TideModel
+
+    consts = tuple(FittedConstituent(n, get_constituent(n).speed_deg_per_hour, h, g, 0.001, 0.1, 1e4)
+                   for n, h, g in [("M2", 1.1, 95.0), ("S2", 0.38, 135.0), ("K1", 0.12, 205.0), ("O1", 0.1, 185.0)])
+    return TideModel(z0_m=2.5, constituents=consts, datum=datum)
+
+
+def test_wrappers_with_a_tide_model():
+    # METHODS sec. 8 check [C] through the model path: obs = predicted tide + 0.25 m at 10-min steps ->
+    # NTR = 0.25 everywhere and every skew surge = 0.25 (10-min sampling misses a crest by <= 1.6 mm here).
+    model = _model()
+    index = pd.date_range("2020-01-01", periods=60 * 144, freq="10min", tz="UTC")
+    observed = _series(index, model.predict(index).to_numpy() + 0.25)
+    ntr = surge.non_tidal_residual(observed, model)
+    np.testing.assert_allclose(ntr, 0.25, atol=1e-9)
+    skew = surge.skew_surges(observed, model)
+    assert len(skew) >= 110 and skew.attrs["n_skipped"] == 0
+    np.testing.assert_allclose(skew["skew_surge_m"], 0.25, atol=2.5e-3)
+    with pytest.warns(ExtremesWarning):
+        res = surge.interaction_tests(observed, model, skew)
+    assert isinstance(res, surge.InteractionTests) and isinstance(res.verdict, str)
+    from extremes.errors import DatumError
+    with pytest.raises(DatumError, match="datum"):
+        surge.non_tidal_residual(observed, _model(datum="other"))
+
+
+def test_trend_of_the_demo_record_brackets_the_true_rate():
+    # The invented harbour's demo record (example_records/README.md) was built with MSL rising 3.0 mm/yr
+    # [scenario truth, example_records/truth.json]: the fitted trend should lie within 3 standard errors.
+    import json
+
+    from extremes.examples import example_record_path, example_records_folder
+
+    truth = json.loads((example_records_folder() / "truth.json").read_text())
+    df = pd.read_csv(example_record_path(), dtype={"level_m": str}, keep_default_na=False)
+    t = pd.to_datetime(df["time"], utc=True, format="ISO8601")
+    level = pd.Series(pd.to_numeric(df["level_m"], errors="coerce").to_numpy(), index=t)
+    level = level[~level.index.duplicated()].sort_index()
+    level[level < -90] = np.nan
+    table = surge.annual_mean_sea_level(level)
+    assert not table.loc[2009, "complete"]  # the long winter outage of 2009
+    trend = surge.msl_trend(table)
+    true_rate = truth["mean_sea_level"]["trend_m_per_year"]
+    assert abs(trend.trend_m_per_year - true_rate) < 3 * trend.trend_se_m_per_year
+    assert 0.0003 < trend.trend_se_m_per_year < 0.0015
