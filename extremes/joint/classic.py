@@ -25,7 +25,7 @@ from extremes.errors import DataError, ExtremesWarning
 from extremes.joint import engine
 from extremes.joint.clustering import cycle_positions, extremal_index_by_level
 from extremes.joint.result import JointProbabilityResult
-from extremes.joint.skew import _utc_series, assemble
+from extremes.joint.skew import _utc_series, assemble, choose_threshold
 
 logger = logging.getLogger(__name__)
 
@@ -35,7 +35,7 @@ __all__ = ["classic_joint_probability", "HOURS_PER_YEAR"]
 HOURS_PER_YEAR = 8766.0
 
 
-def classic_joint_probability(hourly_tide_m, hourly_residual, *, threshold_m=None, threshold_quantile=0.995,
+def classic_joint_probability(hourly_tide_m, hourly_residual, *, threshold_m=None, threshold_quantile=None,
                               tail_method="mle", clustering="level", extremal_index=None, n_offsets=16,
                               min_exceedances=10, estimator="blocks", n_bootstrap=1000, confidence=0.95,
                               periods_years=DENSE_PERIODS_YEARS, grid_step_m=0.001, datum="unspecified",
@@ -49,7 +49,8 @@ def classic_joint_probability(hourly_tide_m, hourly_residual, *, threshold_m=Non
     hourly_residual : pandas.Series
         Hourly non-tidal residual on a UTC index (NaN gaps allowed), de-trended to the epoch. [m]
     threshold_m, threshold_quantile, tail_method
-        GPD tail of the residual above ``threshold_m`` [m] (default: the ``threshold_quantile`` quantile).
+        GPD tail of the residual above ``threshold_m`` [m]; default the ``threshold_quantile`` quantile if
+        given, else :func:`extremes.extremal.threshold.select_threshold` (peaks 72 h apart).
     clustering : {"level", "constant", "none"}
         Extremal index of the hourly level as a function of level (revised JPM), a constant
         ``extremal_index``, or none (classic JPM: every exceeding hour is an event; very conservative).
@@ -79,9 +80,8 @@ def classic_joint_probability(hourly_tide_m, hourly_residual, *, threshold_m=Non
         warnings.warn(f"the residual record covers {record_years:.1f} years; tail fit and extremal index are "
                       "uncertain below ~10 years", ExtremesWarning, stacklevel=2)
         notes.append(f"short record ({record_years:.1f} years)")
-    if threshold_m is None:
-        threshold_m = float(np.quantile(residual, threshold_quantile))
-        notes.append(f"residual threshold {threshold_m:.3f} m = the {threshold_quantile:g} quantile")
+    diagnostics = {}
+    threshold_m = choose_threshold(series, threshold_m, threshold_quantile, notes, diagnostics, "residual")
     year_ids, _ = engine.check_year_ids(series.index)
     comp = engine.Component("all", tide, 1.0, residual, year_ids)
     comp.surge = engine.fit_tail(residual, threshold_m=float(threshold_m), years=record_years, method=tail_method)
@@ -101,8 +101,8 @@ def classic_joint_probability(hourly_tide_m, hourly_residual, *, threshold_m=Non
         notes.append("classic JPM: no extremal index (every exceeding hour counted; conservative)")
     else:
         raise DataError(f"clustering must be 'level', 'constant' or 'none'; got {clustering!r}")
-    diagnostics = {"n_hours_tide": int(tide.size), "n_hours_residual": int(series.size),
-                   "record_years": float(record_years)}
+    diagnostics.update({"n_hours_tide": int(tide.size), "n_hours_residual": int(series.size),
+                        "record_years": float(record_years)})
     return assemble("joint-probability", [comp], events_per_year=HOURS_PER_YEAR, theta_table=theta_table,
                     year_ids=year_ids, periods_years=periods_years, n_bootstrap=n_bootstrap,
                     confidence=confidence, seed=seed, grid_step_m=grid_step_m, datum=datum,

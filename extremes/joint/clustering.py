@@ -69,26 +69,11 @@ def _blocks_estimate(exceed, block, valid_blocks):
 
 
 def _estimate(positions, *, estimator, run_length):
-    try:
-        from extremes.extremal import dependence
-    except ImportError:  # pragma: no cover - until the extremal stage lands
-        return _intervals_fallback(positions) if estimator == "intervals" else _runs_fallback(positions, run_length)
+    from extremes.extremal import dependence
+
     if estimator == "intervals":
         return float(dependence.extremal_index_intervals(positions))
-    return float(dependence.extremal_index_runs(positions, run_length=run_length))
-
-
-def _intervals_fallback(s):
-    t = np.diff(np.asarray(s, dtype=float))
-    if t.size < 2:
-        return 1.0
-    if t.max() <= 2:
-        return min(1.0, 2 * t.sum() ** 2 / ((t.size) * np.sum(t ** 2)))
-    return min(1.0, 2 * np.sum(t - 1) ** 2 / (t.size * np.sum((t - 1) * (t - 2))))
-
-
-def _runs_fallback(s, r):
-    return (1 + int(np.sum(np.diff(s) > r))) / len(s)
+    return float(dependence.extremal_index_runs(positions, run_length=int(run_length)))
 
 
 def extremal_index_by_level(tide_sequence_m, surge_m, positions, *, levels_m=None, n_offsets=64,
@@ -170,13 +155,31 @@ def extremal_index_by_level(tide_sequence_m, surge_m, positions, *, levels_m=Non
     return table
 
 
-def theta_function(table):
-    """Callable level [m] -> extremal index: linear between the table's levels, held beyond both ends."""
+def theta_function(table, *, beyond="hold"):
+    """Callable level [m] -> extremal index from a table of :func:`extremal_index_by_level`.
+
+    Linear between the table's levels and held below it. Above the highest level: ``beyond="hold"`` keeps
+    the last estimate; ``beyond="trend"`` extends the straight line fitted (least squares) to the upper half
+    of the table, when it rises, capped at 1 (clustering keeps weakening with level).
+    """
     if table is None:
         return lambda z: np.ones_like(np.asarray(z, dtype=float))
     if np.isscalar(table):
         value = float(table)
         return lambda z: np.full_like(np.asarray(z, dtype=float), value)
+    if beyond not in ("hold", "trend"):
+        raise DataError(f"beyond must be 'hold' or 'trend'; got {beyond!r}")
     levels = np.asarray(table["level_m"], dtype=float)
     theta = np.clip(np.asarray(table["theta"], dtype=float), 1e-3, 1.0)
-    return lambda z: np.interp(np.asarray(z, dtype=float), levels, theta)
+    slope = 0.0
+    if beyond == "trend" and levels.size >= 4:
+        half = levels.size // 2
+        slope = max(0.0, float(np.polyfit(levels[half:], theta[half:], 1)[0]))
+    top_z, top_t = levels[-1], theta[-1]
+
+    def theta_of(z):
+        z = np.asarray(z, dtype=float)
+        inside = np.interp(z, levels, theta)
+        return np.where(z > top_z, np.minimum(1.0, top_t + slope * (z - top_z)), inside)
+
+    return theta_of

@@ -66,10 +66,10 @@ def _interaction_dependent(interaction):
 
 def assemble(method, components, *, events_per_year, theta_table, year_ids, periods_years, n_bootstrap,
              confidence, seed, grid_step_m, datum, epoch_year, tail_method, notes, diagnostics, threshold_m,
-             interval_method):
+             interval_method, theta_beyond="hold"):
     """Curves (clustered and theta = 1), bootstrap intervals and the result object."""
     t0 = time.perf_counter()
-    theta_of_z = theta_function(theta_table)
+    theta_of_z = theta_function(theta_table, beyond=theta_beyond)
     theta_min = float(np.min(theta_table["theta"])) if isinstance(theta_table, pd.DataFrame) else (
         1.0 if theta_table is None else float(theta_table))
     periods = np.asarray(periods_years, dtype=float)
@@ -118,13 +118,36 @@ def assemble(method, components, *, events_per_year, theta_table, year_ids, peri
                                   diagnostics=diagnostics)
 
 
+def choose_threshold(series, threshold_m, threshold_quantile, notes, diagnostics, what):
+    """The tail threshold [m]: given, or from the extreme-value stage's automatic choice, or a quantile."""
+    from extremes.extremal import threshold as threshold_choice
+    from extremes.errors import FitError
+
+    if threshold_m is not None:
+        return float(threshold_m)
+    if threshold_quantile is not None:
+        value = float(np.quantile(series.to_numpy(), threshold_quantile))
+        notes.append(f"{what} threshold {value:.3f} m = the {threshold_quantile:g} quantile")
+        return value
+    try:
+        choice = threshold_choice.select_threshold(series, min_separation_hours=72.0)
+    except FitError as err:
+        value = float(np.quantile(series.to_numpy(), 0.98))
+        notes.append(f"automatic threshold choice failed ({err}); {what} threshold {value:.3f} m = the 0.98 quantile")
+        return value
+    diagnostics["threshold_choice"] = choice.to_dict()
+    notes.append(f"{what} threshold {choice.threshold_m:.3f} m (quantile {choice.quantile:.4g}) by the automatic "
+                 f"rule of the extreme-value stage: {choice.rule}")
+    return float(choice.threshold_m)
+
+
 def _band_labels(values, edges):
     return np.clip(np.searchsorted(edges, values, side="right") - 1, 0, len(edges) - 2)
 
 
-def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None, threshold_quantile=0.98,
+def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None, threshold_quantile=None,
                                  tail_method="mle", clustering="level", extremal_index=None, n_offsets=64,
-                                 min_exceedances=10, estimator="blocks", stratify=None, n_bands=3,
+                                 min_exceedances=10, estimator="blocks", theta_beyond="hold", stratify=None, n_bands=3,
                                  skew_surge_tide_m=None, interaction=None, n_bootstrap=1000, confidence=0.95,
                                  periods_years=DENSE_PERIODS_YEARS, high_water_years=None, grid_step_m=0.001,
                                  datum="unspecified", epoch_year=None, seed=0) -> JointProbabilityResult:
@@ -139,9 +162,11 @@ def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None,
         Skew surges indexed by UTC time of each tidal cycle, de-trended to the epoch [m]; or the frame of
         :func:`extremes.surge.skew_surges` (``skew_surge_m``, ``predicted_high_water_m``, UTC ``time``).
     threshold_m : float, optional
-        Threshold of the GPD tail of skew surge [m]; by default
-        :func:`extremes.extremal.threshold.select_threshold` when available, else the
-        ``threshold_quantile`` quantile.
+        Threshold of the GPD tail of skew surge [m]; by default the ``threshold_quantile`` quantile when
+        that is given, else :func:`extremes.extremal.threshold.select_threshold` on the skew surges
+        (storm peaks 72 h apart, stable shape); the tail is then fitted to all exceedances.
+    threshold_quantile : float, optional
+        Quantile of skew surge used as the threshold (instead of the automatic choice).
     tail_method : {"mle", "lmoments"}
         Fit of the GPD tail (all exceedances of the threshold).
     clustering : {"level", "constant", "none"}
@@ -151,6 +176,9 @@ def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None,
         The constant extremal index for ``clustering="constant"``.
     n_offsets, min_exceedances, estimator
         Options of :func:`extremes.joint.clustering.extremal_index_by_level`.
+    theta_beyond : {"hold", "trend"}
+        Extremal index above the highest level it can be estimated at: held, or extended along its rising
+        trend up to 1 (:func:`extremes.joint.clustering.theta_function`).
     stratify : {None, "tide-band", "month"}
         Convolve per tide band (tide-dependent skew surge; needs the predicted high water of each skew
         surge) or per calendar month (seasonality; needs high-water times) and sum the rates.
@@ -257,11 +285,7 @@ def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None,
             warnings.warn(msg, ExtremesWarning, stacklevel=2)
             notes.append(msg)
     # -- threshold and tail
-    if threshold_m is None:
-        threshold_m = float(np.quantile(surge, threshold_quantile))
-        notes.append(f"skew-surge threshold {threshold_m:.3f} m = the {threshold_quantile:g} quantile")
-    else:
-        threshold_m = float(threshold_m)
+    threshold_m = choose_threshold(series, threshold_m, threshold_quantile, notes, diagnostics, "skew-surge")
     year_ids, _ = engine.check_year_ids(series.index)
     components = []
     if stratify is None:
@@ -301,7 +325,8 @@ def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None,
             f"storm clustering: extremal index estimated as a function of total level ({estimator} estimator, "
             f"observed skew-surge sequences on {n_offsets} shifts of the predicted tide), from "
             f"{theta_table['theta'].iloc[0]:.2f} at {theta_table['level_m'].iloc[0]:.2f} m to "
-            f"{theta_table['theta'].iloc[-1]:.2f} at {theta_table['level_m'].iloc[-1]:.2f} m, held above")
+            f"{theta_table['theta'].iloc[-1]:.2f} at {theta_table['level_m'].iloc[-1]:.2f} m; above: "
+            + ("held" if theta_beyond == "hold" else "extended along its rising trend, capped at 1"))
     elif clustering == "constant":
         if extremal_index is None or not 0 < float(extremal_index) <= 1:
             raise DataError(f"clustering='constant' needs 0 < extremal_index <= 1; got {extremal_index!r}")
@@ -316,6 +341,6 @@ def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None,
                     theta_table=theta_table, year_ids=year_ids, periods_years=periods_years,
                     n_bootstrap=n_bootstrap, confidence=confidence, seed=seed, grid_step_m=grid_step_m,
                     datum=datum, epoch_year=epoch_year, tail_method=tail_method, notes=notes,
-                    diagnostics=diagnostics, threshold_m=threshold_m,
+                    diagnostics=diagnostics, threshold_m=threshold_m, theta_beyond=theta_beyond,
                     interval_method=f"percentile bootstrap of whole years of skew surge ({n_bootstrap} resamples;"
                                     " tail refitted, extremal index held)")
