@@ -358,3 +358,20 @@ def test_trend_of_the_demo_record_brackets_the_true_rate():
     true_rate = truth["mean_sea_level"]["trend_m_per_year"]
     assert abs(trend.trend_m_per_year - true_rate) < 3 * trend.trend_se_m_per_year
     assert 0.0003 < trend.trend_se_m_per_year < 0.0015
+
+
+def test_crest_refinement_of_hourly_records():
+    # [C] hourly pure M2 (H = 1 m) + 0.25 m: the highest hourly sample misses the crest by up to
+    # H (1 - cos(sigma * 30 min)) = 1 - cos(14.49 deg) = 0.0318 m; the three-point parabola recovers it.
+    index = pd.date_range(T0 + pd.Timedelta(minutes=7), periods=24 * 60, freq="h")
+    h = _hours(index)
+    level = _series(index, _m2(h) + 0.25)
+    tp = _m2_turning_points(h[0], h[-1])
+    raw = surge.skew_surges_from_turning_points(level, tp, refine_crest=False)
+    assert raw["skew_surge_m"].min() >= 0.25 - 0.0318 - 1e-9
+    assert raw["skew_surge_m"].mean() < 0.25 - 0.005
+    refined = surge.skew_surges_from_turning_points(level, tp)
+    np.testing.assert_allclose(refined["skew_surge_m"], 0.25, atol=2e-3)
+    np.testing.assert_array_equal(refined["observed_max_sample_m"], raw["observed_max_m"])
+    lag = (refined["observed_max_time"] - refined["time"]).dt.total_seconds() / 60.0
+    assert lag.abs().max() < 5.0
