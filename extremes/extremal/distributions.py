@@ -215,10 +215,10 @@ def gpd_exceedance_probability(level_m, *, threshold, scale, shape, rate_per_yea
 # ----------------------------------------------------------------------------------------------------------
 def _gev_nll_terms(x, loc, scale, shape):
     """Per-observation negative log-likelihood (inf outside the support)."""
-    y = (x - loc) / scale
     small = np.abs(shape) < SHAPE_EPS
     safe = np.where(small, 1.0, shape)
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        y = (x - loc) / scale
         t = 1.0 + safe * y
         ok = t > 0
         L = np.log(np.where(ok, t, 1.0))
@@ -244,10 +244,10 @@ def gumbel_loglik(data, *, loc, scale):
 
 
 def _gpd_nll_terms(y, scale, shape):
-    w = y / scale
     small = np.abs(shape) < SHAPE_EPS
     safe = np.where(small, 1.0, shape)
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        w = y / scale
         t = 1.0 + safe * w
         ok = t > 0
         general = np.where(ok, (1.0 + 1.0 / safe) * np.log(np.where(ok, t, 1.0)), np.inf)
