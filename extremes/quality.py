@@ -42,12 +42,13 @@ from __future__ import annotations
 import dataclasses
 import logging
 import math
+import warnings
 from dataclasses import dataclass, field
 
 import numpy as np
 import pandas as pd
 
-from extremes.errors import DataError
+from extremes.errors import DataError, ExtremesWarning
 from extremes.records import GaugeRecord
 
 logger = logging.getLogger(__name__)
@@ -372,8 +373,9 @@ def check_record(record: GaugeRecord, *, range_factor: float = 3.0, spike_k: flo
     else:
         irregular_fraction, regular = 0.0, True
     if not regular:
-        logger.warning("%s: irregular sampling: %.1f%% of stamps off the %s grid", record.source,
-                       100 * irregular_fraction, record.interval)
+        warnings.warn(f"{record.source}: irregular sampling: {100 * irregular_fraction:.2f}% of the stamps are "
+                      f"off the {record.interval} grid; the clean series keeps the stamps as read",
+                      ExtremesWarning, stacklevel=2)
 
     # physical range from the record's robust spread
     q_lo, q_hi = np.quantile(uv, [0.005, 0.995])

@@ -11,7 +11,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from extremes.errors import DataError
+from extremes.errors import DataError, ExtremesWarning
 from extremes.quality import FLAGS, QualityReport, check_record, completeness_by_year
 from extremes.records import GaugeRecord, read_record
 
@@ -168,7 +168,8 @@ def test_irregular_sampling_reported():
     times, values = clean(n=500)
     shifted = times.to_series().copy()
     shifted.iloc[100] += pd.Timedelta(minutes=2)
-    report = check_record(record(pd.DatetimeIndex(shifted), values))
+    with pytest.warns(ExtremesWarning, match="irregular sampling"):
+        report = check_record(record(pd.DatetimeIndex(shifted), values))
     assert not report.regular
     assert report.irregular_fraction == pytest.approx(1 / 500)
     assert report.level_m.index.is_monotonic_increasing and len(report.level_m) == 500
