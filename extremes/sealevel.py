@@ -856,15 +856,23 @@ def design_level(curve: ReturnLevelCurve, *, accepted_probability: float, design
     period = float(design_return_period(risk, design_life_years=life))
     rise = _rise_vector(rise_m, life)
     finite = curve.level_m[np.isfinite(curve.level_m)]
-    low, high = float(finite.min() + rise.max()), float(finite.max() + rise.min())
+    # above the curve's top a level has AEP 0, so the search ends where no year can exceed it
+    low, high = float(finite.min() + rise.max()), float(finite.max() + rise.max()) + 1e-3
 
     def excess(z):
         return _encounter(curve, z, rise)[1] - risk
 
-    if not high > low or excess(low) < 0 or excess(high) > 0:
-        raise DataError(f"design level for risk {risk:g} over {life} years lies beyond the {curve.method} curve "
-                        f"(periods {curve.periods_years[0]:g}..{curve.periods_years[-1]:g} years)")
-    level = float(brentq(excess, low, high, xtol=1e-6))
+    beyond = DataError(f"design level for risk {risk:g} over {life} years lies beyond the {curve.method} curve "
+                       f"(periods {curve.periods_years[0]:g}..{curve.periods_years[-1]:g} years)")
+    if not high > low or excess(low) < 0:
+        raise beyond
+    level = float(brentq(excess, low, high, xtol=1e-7))
+    if abs(excess(level)) > 1e-3 * risk or level - rise.max() >= finite.max():
+        raise beyond  # stopped at the curve's end (every year beyond its longest period), not at a root
+    if level - rise.min() > finite.max():
+        warnings.warn(f"design level {level:.3f} m: in the years of least rise it lies above the {curve.method} "
+                      f"curve's longest period ({curve.periods_years[-1]:g} years); those years count as "
+                      "no chance of exceedance", ExtremesWarning, stacklevel=2)
     return DesignLevel(level_m=level, accepted_probability=risk, design_life_years=life,
                        present_return_period_years=float(_present_period(curve, level)),
                        design_return_period_years=period, rise_m=rise)
