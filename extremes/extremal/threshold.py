@@ -178,7 +178,8 @@ def select_threshold(series, *, thresholds=None, quantiles=None, min_separation_
     peaks, take the lowest threshold whose rate is at most ``max_rate_per_year`` and whose shape interval (Wald,
     ``confidence``) contains the shape estimates at every higher eligible candidate (shape stable above it). If
     no candidate is stable, the eligible candidate with the narrowest shape interval among those within the rate
-    limit is taken, with an :class:`~extremes.errors.ExtremesWarning`.
+    limit is taken (the highest eligible threshold when none is within the limit), with an
+    :class:`~extremes.errors.ExtremesWarning`.
 
     Returns
     -------
@@ -208,11 +209,14 @@ def select_threshold(series, *, thresholds=None, quantiles=None, min_separation_
             break
     if chosen is None:
         pool = elig[elig["rate_per_year"] <= max_rate_per_year]
-        pool = pool if not pool.empty else elig
-        chosen = pool.loc[(pool["shape_upper"] - pool["shape_lower"]).idxmin()]
-        rule = "no stable candidate: narrowest shape interval within the rate limit"
-        warnings.warn("no candidate threshold gives a stable shape estimate; took the one with the narrowest "
-                      f"shape interval ({chosen['threshold_m']:.4g} m); check the parameter-stability table",
+        if pool.empty:  # every candidate too frequent: the highest eligible threshold (lowest rate)
+            chosen = elig.loc[elig["rate_per_year"].idxmin()]
+            rule = "no stable candidate within the rate limit: highest threshold with enough peaks"
+        else:
+            chosen = pool.loc[(pool["shape_upper"] - pool["shape_lower"]).idxmin()]
+            rule = "no stable candidate: narrowest shape interval within the rate limit"
+        warnings.warn(f"no candidate threshold gives a stable shape estimate; {rule}: "
+                      f"{chosen['threshold_m']:.4g} m; check the parameter-stability table",
                       ExtremesWarning, stacklevel=2)
     if chosen["n_peaks"] < 50:
         warnings.warn(f"only {int(chosen['n_peaks'])} peaks above the chosen threshold; intervals are wide",
