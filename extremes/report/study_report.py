@@ -1,0 +1,226 @@
+"""Assemble the report of a study: its sections, figures and tables, as one HTML page.
+
+The page follows the study's stages so that a reviewing engineer can follow it end to end: the
+recommended levels first (datum, epoch, method and reason), then the record and its faults, the tide,
+mean sea level, the surge, each method's fit, the methods side by side, sea-level rise, the assumptions
+and cautions, and the provenance needed to reproduce every number.
+"""
+from __future__ import annotations
+
+import logging
+
+import numpy as np
+import pandas as pd
+
+logger = logging.getLogger(__name__)
+
+__all__ = ["build_study_report"]
+
+
+def _fmt_table(frame: pd.DataFrame, digits: int = 3) -> pd.DataFrame:
+    out = frame.copy()
+    for column in out.columns:
+        if pd.api.types.is_float_dtype(out[column]):
+            out[column] = out[column].round(digits)
+    return out
+
+
+def build_study_report(result, document: dict) -> tuple[str, dict[str, bytes]]:
+    """The HTML report of ``result`` and its figures as PNG bytes by name.
+
+    Parameters
+    ----------
+    result : extremes.results.StudyResult
+    document : dict
+        ``result.to_dict()`` (computed once by the caller).
+    """
+    from extremes.report import figures
+    from extremes.report.html import FigureItem, Section, Summary, TableItem, render_report
+
+    pngs: dict[str, bytes] = {}
+
+    def figure(name: str, fig, caption: str) -> FigureItem:
+        png = figures.to_png(fig)
+        pngs[name] = png
+        return FigureItem(png=png, caption=caption, alt=caption)
+
+    datum, epoch = result.datum, result.epoch_year
+    recommended = result.recommended_method
+    periods = result.options["study"]["periods_years"]
+    curve = result.curves[recommended]
+    levels = _fmt_table(curve.table(periods)[["return_period_years", "level_m", "lower_m", "upper_m"]])
+    summary = Summary(
+        datum=datum, epoch_year=epoch, recommended_method=recommended, levels=levels,
+        paragraphs=(
+            f"Recommended method: {recommended}. {result.comparison.reason}",
+            f"Return periods are {'1/AEP' if curve.period_definition == '1/AEP' else 'average recurrence intervals (1/rate; AEP = 1 - exp(-1/T))'}; "
+            f"intervals are {100 * curve.confidence:.0f}% ({curve.interval_method or 'see method'}).",
+        ),
+    )
+    sections = []
+
+    # record and quality ------------------------------------------------------------------------------
+    qc = result.quality
+    rec = document["record"]
+    flag_table = pd.DataFrame({"flag": list(qc.counts), "rows": list(qc.counts.values())})
+    gaps = qc.gaps.copy()
+    record_paragraphs = [
+        f"Record {result.source}: {rec['n_samples']} rows from {rec['start']} to {rec['end']} (UTC), sampling "
+        f"interval {rec['interval_minutes']} minutes, {result.record_years:.1f} years of valid data.",
+        f"Every row has one flag; the counts add up to the rows read. {rec['n_flagged']} rows were flagged and "
+        f"{rec['n_missing']} held no reading; flagged readings are excluded from the analysis, not deleted. "
+        f"Total length of gaps: {rec['flags']['gap_hours'] or 0:.0f} hours in {rec['n_gaps']} gaps.",
+    ]
+    if rec.get("datum_shift_candidates"):
+        record_paragraphs.append(
+            "Candidate datum shifts (step changes in monthly means) were found: "
+            + "; ".join(f"{c['time']} ({c['size_m']:+.3f} m)" for c in rec["datum_shift_candidates"])
+            + ". Check them against the gauge's levelling history before relying on the levels.")
+    sections.append(Section(
+        title="The record and its quality",
+        paragraphs=tuple(record_paragraphs),
+        figures=(figure("record", figures.record_figure(result.record.water_level_m, flags=qc.flags, gaps=gaps,
+                                                        datum=datum),
+                        "The record with flagged readings marked by flag and gaps shaded."),),
+        tables=(TableItem(flag_table, "Rows by quality flag."),
+                TableItem(pd.DataFrame({"year": [int(y) for y in qc.completeness_by_year.index],
+                                        "completeness": np.round(qc.completeness_by_year.to_numpy(), 3)}),
+                          "Completeness of each year (fraction of expected samples present).")),
+    ))
+
+    # tide --------------------------------------------------------------------------------------------
+    model = result.tide_model
+    constituents = pd.DataFrame([c.to_dict() for c in model.constituents])
+    constituents = constituents.sort_values("amplitude_m", ascending=False).head(25)
+    datums = pd.DataFrame({"datum_name": list(result.datums.datums_m),
+                           "level_m": np.round(list(result.datums.datums_m.values()), 3)})
+    predicted = model.predict(result.level_epoch_m.index)
+    sections.append(Section(
+        title="Astronomical tide",
+        paragraphs=(
+            f"Least-squares harmonic analysis with nodal corrections of {len(model.constituents)} constituents "
+            f"(Greenwich phase lags, UTC) on the record adjusted to the mean-sea-level epoch. Residual standard "
+            f"deviation {model.residual_std_m:.3f} m. Form factor {result.form_factor:.3f}: {result.tide_type}.",
+            "Tidal datums come from a prediction over a full 18.61-year nodal cycle (HAT, LAT, means of high "
+            "and low waters); spring and neap levels follow Z0 +/- (M2 +/- S2).",
+        ),
+        figures=(figure("tide_fit", figures.tide_fit_figure(result.level_epoch_m, predicted, datum=datum),
+                        "Observed and predicted levels over a sample fortnight, and the residual spectrum."),),
+        tables=(TableItem(_fmt_table(constituents[["name", "speed_deg_per_hour", "amplitude_m", "phase_deg",
+                                                   "amplitude_se_m", "phase_se_deg", "snr"]], 4),
+                          "The 25 largest constituents."),
+                TableItem(datums, f"Tidal datums [m above {datum}] at the epoch.")),
+    ))
+
+    # mean sea level ----------------------------------------------------------------------------------
+    msl = document["mean_sea_level"]
+    if msl["trend_m_per_year"] is not None:
+        msl_text = (f"Linear trend of annual mean sea level {1000 * msl['trend_m_per_year']:.2f} +/- "
+                    f"{1000 * msl['trend_se_m_per_year']:.2f} mm/year (standard error inflated for "
+                    f"autocorrelation). Every level is stated at the epoch {epoch:.2f}, where mean sea level is "
+                    f"{msl['msl_at_epoch_m']:.3f} m.")
+    else:
+        msl_text = "No mean-sea-level trend could be fitted; levels are at the record's mean sea level."
+    sections.append(Section(title="Mean sea level and epoch", paragraphs=(msl_text,),
+                            tables=(TableItem(_fmt_table(result.annual_msl.reset_index()
+                                                         if result.annual_msl.index.name else result.annual_msl),
+                                              "Annual mean sea level."),)))
+
+    # surge -------------------------------------------------------------------------------------------
+    skew = result.skew_surges
+    skew_series = pd.Series(skew["skew_surge_m"].to_numpy(), index=pd.DatetimeIndex(skew["time"]))
+    sections.append(Section(
+        title="Surge and skew surge",
+        paragraphs=(
+            "The non-tidal residual is the observed level minus the predicted tide; the skew surge is the "
+            "highest observed level in a tidal cycle minus the predicted high water of that cycle.",
+            f"Tide-surge interaction: {result.interaction.verdict}",
+        ),
+        figures=(figure("residual", figures.residual_figure(result.residual_m, skew_surge_m=skew_series),
+                        "Non-tidal residual and skew surges."),),
+    ))
+
+    # each method's fit -------------------------------------------------------------------------------
+    fit_figures = []
+    for method in ("annual-maxima", "peaks-over-threshold", "r-largest"):
+        detail = result.method_details.get(method)
+        sample = getattr(detail, "sample", None)
+        if detail is None or sample is None:
+            continue
+        values = sample.to_numpy() if hasattr(sample, "to_numpy") else np.asarray(sample)
+        values = values[:, 0] if values.ndim == 2 else values
+        try:
+            fig = figures.fit_diagnostics_figure(
+                values[np.isfinite(values)], result.curves[method], cdf=getattr(detail, "cdf", None),
+                quantile=getattr(detail, "quantile", None), record_years=result.record_years,
+                title=method)
+        except Exception as err:  # noqa: BLE001 - a figure must never sink the report; the text says why
+            logger.warning("diagnostics figure of %s not drawn: %s", method, err)
+            continue
+        fit_figures.append(figure(f"fit_{method}", fig, f"Diagnostics of the {method} fit: QQ, PP and "
+                                                       "return-level plot with observed points."))
+    joint_tables = []
+    for method in ("skew-surge-joint-probability", "joint-probability"):
+        detail = result.method_details.get(method)
+        if detail is not None and getattr(detail, "clustering_effect", None) is not None:
+            joint_tables.append(TableItem(_fmt_table(detail.clustering_effect),
+                                          f"{method}: effect of storm clustering (extremal index by level)."))
+    notes = [f"{name}: " + " ".join(getattr(d, "notes", ()) or ()) for name, d in result.method_details.items()
+             if getattr(d, "notes", None)]
+    sections.append(Section(title="Extreme-value and joint-probability fits",
+                            paragraphs=tuple(notes) or ("",), figures=tuple(fit_figures),
+                            tables=tuple(joint_tables)))
+
+    # methods compared --------------------------------------------------------------------------------
+    table = _fmt_table(result.comparison.table)
+    am = result.method_details.get("annual-maxima")
+    observed = getattr(am, "sample", None)
+    sections.append(Section(
+        title="Methods side by side",
+        paragraphs=(result.comparison.reason,),
+        figures=(figure("methods", figures.methods_comparison_figure(
+            result.curves, recommended=recommended,
+            observed_m=None if observed is None else np.asarray(observed, dtype=float),
+            record_years=result.record_years), "Return levels of every method with their intervals."),),
+        tables=(TableItem(table, "Return levels of every method [m] with intervals."),),
+    ))
+
+    # sea-level rise ----------------------------------------------------------------------------------
+    slr = result.sea_level_rise
+    slr_rows = pd.DataFrame(slr["rows"])
+    paragraphs = [
+        f"Levels of the recommended method raised by each sea-level-rise offset, with the present return "
+        f"period of each raised level (how often today's climate would reach it). Design life "
+        f"{slr['design_life_years']} years; accepted probability of exceedance {slr['accepted_risk']:.0%}.",
+    ]
+    for enc in slr["encounter"]:
+        paragraphs.append(str(getattr(enc, "summary", None) or enc))
+    for design in slr["design_levels"]:
+        paragraphs.append(str(getattr(design, "summary", None) or design))
+    slr_figures = []
+    years = np.arange(0, slr["design_life_years"] + 1) + epoch
+    rises = {f"+{o:g} m by end of life": np.linspace(0, o, years.size) for o in result.options["study"]["slr_m"]
+             if o > 0}
+    for item in slr["scenario_results"]:
+        paragraphs.append(f"Scenario {item['scenario']}: rise {item['rise_end_of_life_m']:.2f} m by the end of "
+                          f"the design life; {getattr(item['encounter_100yr_level'], 'summary', '')} "
+                          f"{getattr(item['design_level'], 'summary', '')}")
+    if rises:
+        slr_figures.append(figure("sea_level_rise", figures.sea_level_rise_figure(curve, years=years, rise_m=rises),
+                                  "Return levels against time under rising sea level."))
+    sections.append(Section(title="Sea-level rise", paragraphs=tuple(paragraphs), figures=tuple(slr_figures),
+                            tables=(TableItem(_fmt_table(slr_rows), "Recommended levels under each offset."),)))
+
+    provenance = {
+        "software": f"extremes {result.software['version']}",
+        "record": result.source,
+        "sha256": result.sha256,
+        "datum": datum,
+        "epoch_year": f"{epoch:.2f}",
+        "options": document["inputs"]["options"],
+        "warnings": "; ".join(result.warnings) or "none",
+        "notes": "; ".join(result.notes) or "none",
+    }
+    html = render_report(title=f"Design still-water levels: {result.source.split('/')[-1]}", summary=summary,
+                         sections=sections, cautions=result.cautions, provenance=provenance)
+    return html, pngs

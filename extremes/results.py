@@ -1,0 +1,268 @@
+"""The result of a study and its files.
+
+:class:`StudyResult` holds everything a study found; :meth:`StudyResult.to_dict` is ``results.json``
+(schema ``extremes.results/1``, keys as in the project's contract); :func:`write_study` writes the results
+folder atomically:
+
+    results.json                  every number, the inputs, options, version, datum, epoch and cautions
+    tables/return_levels.csv      all methods at the study's return periods, with intervals
+    tables/constituents.csv       harmonic constants
+    tables/datums.csv             tidal datums
+    tables/annual_mean_sea_level.csv
+    tables/annual_maxima.csv      the annual maxima used (epoch-adjusted), when available
+    tables/peaks.csv              the declustered peaks used, when available
+    tables/skew_surges.csv        one skew surge per tidal cycle
+    tables/sea_level_rise.csv     recommended levels raised by each offset
+    tables/quality_flags.csv      counts of each flag
+    models/tide_model.json        the saved tide model (predicts at any time)
+    models/curves.json            every method's return-level curve (what ``extremes rerun`` reuses)
+    figures/*.png                 the report's figures
+    report.html                   one self-contained report
+"""
+from __future__ import annotations
+
+import io
+import json
+import logging
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from extremes.curves import ReturnLevelCurve
+from extremes.errors import DataError
+from extremes.jsonable import dumps, to_jsonable
+from extremes.outputs import output_folder
+
+logger = logging.getLogger(__name__)
+
+SCHEMA = "extremes.results/1"
+
+__all__ = ["SCHEMA", "StudyResult", "write_study", "load_results", "curves_from_results"]
+
+
+@dataclass(frozen=True, eq=False, repr=False)
+class StudyResult:
+    """Everything one study found. Levels in metres above ``record.datum`` at ``epoch_year``."""
+
+    software: dict
+    source: str
+    sha256: str
+    options: dict
+    record: object
+    quality: object
+    annual_msl: pd.DataFrame
+    msl_trend: object
+    epoch_year: float
+    level_epoch_m: pd.Series
+    tide_model: object
+    datums: object
+    form_factor: float
+    tide_type: str
+    residual_m: pd.Series
+    skew_surges: pd.DataFrame
+    high_waters: pd.DataFrame
+    interaction: object
+    curves: dict
+    method_details: dict
+    comparison: object
+    sea_level_rise: dict
+    cautions: tuple
+    notes: tuple = ()
+    warnings: tuple = ()
+    timings_s: dict = field(default_factory=dict)
+    record_years: float = float("nan")
+
+    def __repr__(self) -> str:
+        return (f"StudyResult(source={Path(self.source).name!r}, epoch={self.epoch_year:.2f}, "
+                f"methods={len(self.curves)}, recommended={self.recommended_method!r})")
+
+    @property
+    def datum(self) -> str:
+        """Vertical datum of every level."""
+        return self.record.datum
+
+    @property
+    def recommended_method(self) -> str:
+        """The method whose levels are recommended."""
+        return self.comparison.recommended_method
+
+    @property
+    def msl_at_epoch_m(self) -> float:
+        """Mean sea level at the epoch on the fitted trend (the record mean when no trend). [m]"""
+        if self.msl_trend is not None:
+            return float(self.msl_trend.msl_at(self.epoch_year))
+        return float(np.nanmean(self.level_epoch_m.to_numpy()))
+
+    def return_level_table(self, periods_years=None) -> pd.DataFrame:
+        """All methods at ``periods_years`` (default: the study's), one row per method and period."""
+        periods = self.options["study"]["periods_years"] if periods_years is None else periods_years
+        return pd.concat([curve.table(periods) for curve in self.curves.values()], ignore_index=True)
+
+    def to_dict(self) -> dict:
+        """The ``results.json`` document (strict JSON types)."""
+        trend = self.msl_trend
+        tide = {
+            "constituents": [c.to_dict() for c in self.tide_model.constituents],
+            "datums_m": self.datums.datums_m,
+            "form_factor": self.form_factor,
+            "tide_type": self.tide_type,
+            "z0_m": self.tide_model.z0_m,
+            "residual_std_m": self.tide_model.residual_std_m,
+            "n_constituents": len(self.tide_model.constituents),
+            "phase_convention": "Greenwich phase lag relative to the equilibrium argument, times in UTC",
+        }
+        msl = {
+            "trend_m_per_year": None if trend is None else trend.trend_m_per_year,
+            "trend_se_m_per_year": None if trend is None else trend.trend_se_m_per_year,
+            "epoch_year": self.epoch_year,
+            "msl_at_epoch_m": self.msl_at_epoch_m,
+            "msl_at_epoch_se_m": None if trend is None else trend.msl_at_se(self.epoch_year),
+            "trend": None if trend is None else trend.to_dict(),
+            "annual_means": self.annual_msl,
+        }
+        slr = self.sea_level_rise
+        document = {
+            "schema": SCHEMA,
+            "software": self.software,
+            "inputs": {"record": self.source, "sha256": self.sha256, "options": self.options},
+            "record": self.quality.to_dict(),
+            "tide": tide,
+            "mean_sea_level": msl,
+            "return_levels": self.return_level_table(),
+            "recommended_method": self.recommended_method,
+            "recommendation": {"method": self.recommended_method, "reason": self.comparison.reason},
+            "sea_level_rise": slr["rows"],
+            "sea_level_rise_details": {
+                "method": slr["method"],
+                "level_100_m": slr["level_100_m"],
+                "design_life_years": slr["design_life_years"],
+                "accepted_risk": slr["accepted_risk"],
+                "amplification": slr["amplification"],
+                "encounter": slr["encounter"],
+                "design_levels": slr["design_levels"],
+                "scenarios": slr["scenario_results"],
+            },
+            "interaction": self.interaction,
+            "methods": {name: _detail_dict(detail) for name, detail in self.method_details.items()},
+            "curves": {name: curve.to_dict() for name, curve in self.curves.items()},
+            "datum": self.datum,
+            "epoch_year": self.epoch_year,
+            "units": "m",
+            "record_years": self.record_years,
+            "notes": list(self.notes),
+            "warnings": list(self.warnings),
+            "timings_s": self.timings_s,
+            "cautions": list(self.cautions),
+        }
+        return to_jsonable(document)
+
+
+def _detail_dict(detail) -> dict:
+    if hasattr(detail, "to_dict"):
+        data = detail.to_dict()
+        if isinstance(data, dict):
+            data = {k: v for k, v in data.items() if k not in ("curve", "curve_unclustered")}
+        return to_jsonable(data)
+    return to_jsonable(detail)
+
+
+def _csv(frame: pd.DataFrame) -> str:
+    buffer = io.StringIO()
+    frame.to_csv(buffer, index=False, float_format="%.6g")
+    return buffer.getvalue()
+
+
+def study_tables(result: StudyResult) -> dict[str, pd.DataFrame]:
+    """The CSV tables of a study, by file stem."""
+    tables = {
+        "return_levels": result.return_level_table(),
+        "constituents": pd.DataFrame([c.to_dict() for c in result.tide_model.constituents]),
+        "datums": pd.DataFrame({"datum_name": list(result.datums.datums_m),
+                                "level_m": list(result.datums.datums_m.values())}),
+        "annual_mean_sea_level": result.annual_msl.reset_index() if result.annual_msl.index.name
+        else result.annual_msl,
+        "skew_surges": result.skew_surges,
+        "sea_level_rise": pd.DataFrame(result.sea_level_rise["rows"]),
+        "quality_flags": pd.DataFrame({"flag": list(result.quality.counts),
+                                       "rows": list(result.quality.counts.values())}),
+    }
+    for method, name in (("annual-maxima", "annual_maxima"), ("peaks-over-threshold", "peaks")):
+        detail = result.method_details.get(method)
+        sample = getattr(detail, "sample", None)
+        if isinstance(sample, pd.Series):
+            tables[name] = sample.rename("level_m").rename_axis(sample.index.name or "time").reset_index()
+        elif isinstance(sample, pd.DataFrame):
+            tables[name] = sample.reset_index()
+    return tables
+
+
+def write_study(result: StudyResult, out_dir, *, overwrite: bool = False, figures: bool = True,
+                progress=None) -> Path:
+    """Write the results folder of ``result`` to ``out_dir`` atomically.
+
+    Parameters
+    ----------
+    result : StudyResult
+    out_dir : path-like
+        The results folder; refused if it already holds results, unless ``overwrite``.
+    overwrite : bool, keyword-only
+        Replace an existing results folder (only once the new one is complete).
+    figures : bool, keyword-only
+        Draw the figures and the HTML report (False: numbers and tables only).
+    progress : callable, optional
+        Called with a stage name as writing proceeds.
+
+    Returns
+    -------
+    pathlib.Path
+        The results folder.
+    """
+    out_dir = Path(out_dir)
+    with output_folder(out_dir, overwrite=overwrite) as work:
+        document = result.to_dict()
+        (work / "tables").mkdir()
+        for stem, frame in study_tables(result).items():
+            (work / "tables" / f"{stem}.csv").write_text(_csv(frame), encoding="utf-8")
+        (work / "models").mkdir()
+        (work / "models" / "tide_model.json").write_text(
+            json.dumps(to_jsonable(result.tide_model.to_dict()), indent=2, allow_nan=False), encoding="utf-8")
+        (work / "models" / "curves.json").write_text(dumps(document["curves"]), encoding="utf-8")
+        if figures:
+            if progress is not None:
+                progress("report")
+            from extremes.report.study_report import build_study_report
+
+            html, pngs = build_study_report(result, document)
+            (work / "figures").mkdir()
+            for name, png in pngs.items():
+                (work / "figures" / f"{name}.png").write_bytes(png)
+            (work / "report.html").write_text(html, encoding="utf-8")
+        (work / "results.json").write_text(dumps(document), encoding="utf-8")
+    return out_dir
+
+
+def load_results(folder) -> dict:
+    """Read ``results.json`` of a results folder; :class:`DataError` if it is missing or not ours."""
+    path = Path(folder) / "results.json"
+    if not Path(folder).is_dir():
+        raise DataError(f"{folder}: not a results folder (expected a folder holding results.json)")
+    try:
+        document = json.loads(path.read_text(encoding="utf-8"))
+    except FileNotFoundError:
+        raise DataError(f"{path}: not found; expected the results folder of 'extremes run'") from None
+    except (OSError, UnicodeDecodeError, json.JSONDecodeError) as err:
+        raise DataError(f"{path}: not readable as results ({err})") from None
+    if not isinstance(document, dict) or document.get("schema") != SCHEMA:
+        raise DataError(f"{path}: schema is {document.get('schema') if isinstance(document, dict) else None!r}; "
+                        f"expected {SCHEMA!r}")
+    return document
+
+
+def curves_from_results(document: dict) -> dict[str, ReturnLevelCurve]:
+    """The saved return-level curves of a results document, by method."""
+    curves = document.get("curves")
+    if not isinstance(curves, dict) or not curves:
+        raise DataError("results hold no saved return-level curves (key 'curves')")
+    return {name: ReturnLevelCurve.from_dict(data) for name, data in curves.items()}

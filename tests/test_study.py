@@ -1,0 +1,140 @@
+"""The whole study on a short record of the invented harbour's process, through the command line.
+
+The record is made by the example generator (invented data, for the demo and these tests only); the checks
+are on the contract of results.json (CONTRACT.md), on the consistency of what the study writes, and on
+outside facts named beside each check.
+"""
+from __future__ import annotations
+
+import json
+
+import numpy as np
+import pandas as pd
+import pytest
+from click.testing import CliRunner
+
+from extremes.cli import cli
+
+CONTRACT_KEYS = {"schema", "software", "inputs", "record", "tide", "mean_sea_level", "return_levels",
+                 "recommended_method", "sea_level_rise", "cautions"}
+METHODS = {"annual-maxima", "peaks-over-threshold", "r-largest", "joint-probability",
+           "skew-surge-joint-probability"}
+
+
+@pytest.fixture(scope="module")
+def short_record(tmp_path_factory):
+    from extremes.example_records import make_examples
+
+    times = pd.date_range("2006-01-01", "2017-12-31 23:00", freq="h", tz="UTC")
+    level, _ = make_examples.harbour_levels(times, np.random.default_rng(7))
+    path = tmp_path_factory.mktemp("record") / "orrindale_short.csv"
+    frame = pd.DataFrame({"time": times.strftime("%Y-%m-%dT%H:%M:%SZ"), "level_m": np.round(level, 3)})
+    frame.to_csv(path, index=False)
+    return path
+
+
+@pytest.fixture(scope="module")
+def study(short_record, tmp_path_factory):
+    out = tmp_path_factory.mktemp("study") / "study"
+    result = CliRunner().invoke(cli, ["run", str(short_record), "--out", str(out), "--datum", "gauge zero",
+                                      "--resamples", "40", "--slr", "0,0.5", "--periods", "2,10,100"])
+    assert result.exit_code == 0, result.output
+    return out, result.output
+
+
+def test_results_json_has_every_contract_key(study):
+    out, _ = study
+    document = json.loads((out / "results.json").read_text())
+    assert CONTRACT_KEYS <= set(document)
+    assert document["schema"] == "extremes.results/1"
+    assert document["record"]["units"] == "m" and document["record"]["datum"] == "gauge zero"
+    for key in ("start", "end", "n_samples", "interval_minutes", "n_missing", "n_flagged", "flags"):
+        assert key in document["record"]
+    for key in ("duplicate", "sentinel", "spike", "flatline", "gap_hours"):
+        assert key in document["record"]["flags"]
+    assert {"HAT", "LAT", "MHWS", "MLWS", "MSL"} <= set(document["tide"]["datums_m"])
+    constituent = document["tide"]["constituents"][0]
+    assert {"name", "speed_deg_per_hour", "amplitude_m", "phase_deg", "amplitude_se_m", "phase_se_deg"} <= set(
+        constituent)
+    msl = document["mean_sea_level"]
+    assert {"trend_m_per_year", "trend_se_m_per_year", "epoch_year", "msl_at_epoch_m"} <= set(msl)
+    assert document["recommended_method"] in METHODS
+    methods = {row["method"] for row in document["return_levels"]}
+    assert methods <= METHODS and document["recommended_method"] in methods
+    for row in document["return_levels"]:
+        assert {"method", "return_period_years", "level_m", "lower_m", "upper_m", "confidence"} <= set(row)
+    assert {row["offset_m"] for row in document["sea_level_rise"]} == {0.0, 0.5}
+    assert any("wave" in c for c in document["cautions"])
+    assert any("licensed" in c or "local" in c for c in document["cautions"])
+
+
+def test_levels_increase_with_period_and_intervals_bracket(study):
+    out, _ = study
+    table = pd.read_csv(out / "tables" / "return_levels.csv")
+    for method, rows in table.groupby("method"):
+        rows = rows.sort_values("return_period_years").dropna(subset=["level_m"])
+        assert np.all(np.diff(rows["level_m"]) > 0), method
+        ok = rows.dropna(subset=["lower_m", "upper_m"])
+        assert np.all(ok["lower_m"] <= ok["level_m"] + 1e-9) and np.all(ok["level_m"] <= ok["upper_m"] + 1e-9)
+
+
+def test_tide_recovers_the_generators_main_constituents(study):
+    # the generator's constants (example_records/make_examples.py HARBOUR_TIDE; invented values)
+    from extremes.example_records.make_examples import HARBOUR_TIDE
+
+    out, _ = study
+    constituents = {c["name"]: c for c in json.loads((out / "results.json").read_text())["tide"]["constituents"]}
+    for name in ("M2", "S2", "K1", "O1"):
+        amplitude, phase = HARBOUR_TIDE[name]
+        assert constituents[name]["amplitude_m"] == pytest.approx(amplitude, abs=0.01), name
+        assert abs((constituents[name]["phase_deg"] - phase + 180) % 360 - 180) < 3, name
+
+
+def test_sea_level_rise_offset_rule_and_present_period(study):
+    # Hunter (2012) offset rule: future level = present level + rise; the present return period of the raised
+    # 100-year level must be longer than 100 years
+    out, _ = study
+    document = json.loads((out / "results.json").read_text())
+    rows = {(r["offset_m"], r["return_period_years"]): r for r in document["sea_level_rise"]}
+    assert rows[(0.5, 100.0)]["level_m"] == pytest.approx(rows[(0.0, 100.0)]["level_m"] + 0.5)
+    present = rows[(0.5, 100.0)]["present_return_period_years_of_level"]
+    assert present is None or present > 100
+
+
+def test_outputs_written_and_refused_without_overwrite(study, short_record):
+    out, output = study
+    for name in ("results.json", "report.html", "tables/return_levels.csv", "tables/constituents.csv",
+                 "tables/skew_surges.csv", "models/tide_model.json", "models/curves.json"):
+        assert (out / name).is_file(), name
+    assert "report.html" in output
+    again = CliRunner().invoke(cli, ["run", str(short_record), "--out", str(out)])
+    assert again.exit_code == 1 and "--overwrite" in again.output
+
+
+def test_rerun_new_offsets_without_refitting(study, tmp_path):
+    out, _ = study
+    document = json.loads((out / "results.json").read_text())
+    result = CliRunner().invoke(cli, ["rerun", str(out), "--slr", "0.25,1.0", "--json"])
+    assert result.exit_code == 0, result.output
+    rows = json.loads(result.output)["sea_level_rise"]
+    base = {r["return_period_years"]: r["level_m"] for r in document["sea_level_rise"] if r["offset_m"] == 0.0}
+    for row in rows:
+        assert row["level_m"] == pytest.approx(base[row["return_period_years"]] + row["offset_m"])
+    written = CliRunner().invoke(cli, ["rerun", str(out), "--slr", "0.3", "--out", str(tmp_path / "slr")])
+    assert written.exit_code == 0, written.output
+    assert json.loads((tmp_path / "slr" / "results.json").read_text())["reruns"][0]["slr_m"] == [0.3]
+
+
+def test_rerun_bad_inputs(tmp_path, study):
+    out, _ = study
+    assert CliRunner().invoke(cli, ["rerun", str(tmp_path), "--slr", "0.5"]).exit_code == 1
+    assert CliRunner().invoke(cli, ["rerun", str(out), "--slr", "half"]).exit_code == 2
+
+
+def test_run_refuses_bad_record_with_one_line(tmp_path):
+    bad = tmp_path / "bad.csv"
+    bad.write_text("time,level_m\n")
+    result = CliRunner().invoke(cli, ["run", str(bad), "--out", str(tmp_path / "o")])
+    assert result.exit_code == 1
+    assert "bad.csv" in result.output and "Traceback" not in result.output
+    assert not (tmp_path / "o").exists()
