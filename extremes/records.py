@@ -439,7 +439,7 @@ def _read_text(path: Path, *, time_columns, level_column, time_format, offset, u
                                            decimal=decimal)
     first_data_line = n_lead + (2 if has_header else 1)
     kwargs: dict[str, Any] = dict(
-        sep=sep if sep != r"\s+" else None, delim_whitespace=False, skiprows=n_lead, comment=None,
+        sep=sep if sep != r"\s+" else None, delim_whitespace=False, skiprows=n_lead, comment="#",
         header=0 if has_header else None, names=names, index_col=False,
         dtype={col: "str" for col in time_cols}, decimal=decimal, compression=compression,
         skip_blank_lines=True, engine="c", skipinitialspace=True, na_values=["", "NA", "NaN", "nan", "NULL", "null", "-"],
