@@ -28,7 +28,7 @@ import warnings
 from dataclasses import dataclass, field
 
 import numpy as np
-from scipy import optimize, special
+from scipy import special
 
 from extremes.errors import DataError, ExtremesWarning, FitError
 
@@ -824,6 +824,8 @@ def _scipy_refit(objective, theta0):
     def obj(t):
         v = objective(t)
         return v if np.isfinite(v) else 1e300
+
+    from scipy import optimize  # imported here: rarely needed, and slow to import
 
     res = optimize.minimize(obj, theta0, method="Nelder-Mead",
                             options={"xatol": 1e-10, "fatol": 1e-12, "maxiter": 4000, "maxfev": 8000})

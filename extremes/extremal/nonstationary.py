@@ -17,7 +17,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 import pandas as pd
-from scipy import stats
+from scipy import special
 
 from extremes.errors import DataError, FitError
 from extremes.extremal import distributions as D
@@ -105,7 +105,7 @@ class NonStationaryGEVFit:
         z = level(theta)
         grad = np.stack([(level(theta + e) - level(theta - e)) / (2 * h) for e, h in _steps(theta)], axis=1)
         se = np.sqrt(np.einsum("ki,ij,kj->k", grad, self.cov, grad))
-        zc = stats.norm.ppf(0.5 + confidence / 2)
+        zc = special.ndtri(0.5 + confidence / 2)
         df = pd.DataFrame({"return_period_years": T, "level_m": z, "lower_m": z - zc * se, "upper_m": z + zc * se,
                            "confidence": confidence})
         df.attrs.update({"year": float(year), "ci": "delta", "model": "gev-nonstationary", "units": "m"})
@@ -215,7 +215,7 @@ def fit_gev_nonstationary(maxima, *, years=None, reference_year=None, scale_tren
     ll = float(-f[0])
     dev = 2.0 * (ll - stat.log_likelihood)
     df = 2 if scale_trend else 1
-    pval = float(stats.chi2.sf(max(dev, 0.0), df))
+    pval = float(special.chdtrc(df, max(dev, 0.0)))
     return NonStationaryGEVFit(float(th[0]), float(th[1]), float(th[2]), float(th[3]) if scale_trend else 0.0,
                                float(th[-1]), t0, cov, ll, float(stat.log_likelihood), float(dev), pval, x.size,
                                bool(scale_trend), t, x)

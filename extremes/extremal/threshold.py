@@ -17,7 +17,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 import pandas as pd
-from scipy import stats
+from scipy import special
 
 from extremes.errors import DataError, ExtremesWarning, FitError
 from extremes.extremal import distributions as D
@@ -54,7 +54,7 @@ def mean_residual_life(series, *, thresholds=None, quantiles=None, min_separatio
         ``threshold_m``, ``n_peaks``, ``mean_excess_m``, ``lower_m``, ``upper_m`` (normal interval of the mean).
     """
     s, th, _ = _thresholds(series, thresholds, quantiles)
-    z = stats.norm.ppf(0.5 + confidence / 2)
+    z = special.ndtri(0.5 + confidence / 2)
     rows = []
     for u in th:
         p = peaks_over_threshold(s, threshold=u, min_separation_hours=min_separation_hours).peaks.to_numpy() - u
@@ -83,7 +83,7 @@ def parameter_stability(series, *, thresholds=None, quantiles=None, min_separati
     from extremes.extremal.uncertainty import _delta_se
 
     s, th, q = _thresholds(series, thresholds, quantiles)
-    z = stats.norm.ppf(0.5 + confidence / 2)
+    z = special.ndtri(0.5 + confidence / 2)
     rows = []
     for i, u in enumerate(th):
         pk = peaks_over_threshold(s, threshold=u, min_separation_hours=min_separation_hours)

@@ -25,7 +25,7 @@ import warnings
 
 import numpy as np
 import pandas as pd
-from scipy import stats
+from scipy import special
 
 from extremes.errors import ExtremesWarning, FitError
 from extremes.extremal import distributions as D
@@ -74,7 +74,7 @@ def _numeric_gradient(func, params, rel=1e-6):
 
 
 def _z_crit(confidence):
-    return stats.norm.ppf(0.5 + confidence / 2)
+    return special.ndtri(0.5 + confidence / 2)
 
 
 # ----------------------------------------------------------------------------------------------------------
@@ -342,7 +342,7 @@ def profile_intervals_many(samples, periods_years, *, confidence=0.95):
     yp = -math.log1p(-1.0 / T)
     lny = math.log(yp)
     z_hat = D.gev_return_level(T, loc=params[:, 0], scale=params[:, 1], shape=params[:, 2])
-    crit = stats.chi2.ppf(confidence, 1)
+    crit = special.chdtri(1, 1 - confidence)
     rows_data = np.concatenate([np.arange(B), np.arange(B)])
 
     def nll_full(p, rows):
@@ -516,7 +516,7 @@ def return_levels(fit, periods_years, *, ci="profile", confidence=0.95, n_bootst
             zc = _z_crit(confidence)
             lower[usable], upper[usable] = z - zc * se, z + zc * se
         elif ci == "profile":
-            crit = stats.chi2.ppf(confidence, 1)
+            crit = special.chdtri(1, 1 - confidence)
             if is_pot:
                 lo, hi = _profile_gpd(fit, Tu, crit, se, aep=aep)
             else:
