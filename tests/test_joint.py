@@ -199,3 +199,18 @@ def test_compare_methods_rule_and_table():
     assert compare_methods(curves, record_years=8.0).recommended_method == "annual-maxima"
     with pytest.raises(DataError):
         compare_methods([], record_years=10.0)
+
+
+@pytest.mark.parametrize("shape", [-0.3, 0.0, 0.2])
+def test_weighted_bootstrap_refit_matches_scipy_genpareto_fit(shape):
+    # the vectorised refit of the bootstrap (Grimshaw 1993 reduction) must give scipy.stats.genpareto.fit's
+    # maximum-likelihood estimates (outside reference), also for weighted copies (= repeated values)
+    from extremes.joint.engine import gpd_mle_weighted
+
+    rng = np.random.default_rng(11)
+    y = stats.genpareto.rvs(shape, scale=0.1, size=150, random_state=rng)
+    counts = rng.multinomial(150, np.full(150, 1 / 150), size=3)
+    got = gpd_mle_weighted(y, counts)
+    for row, c in zip(got, counts):
+        c_hat, _, scale_hat = stats.genpareto.fit(np.repeat(y, c), floc=0.0)
+        assert row == pytest.approx([scale_hat, c_hat], abs=2e-4)

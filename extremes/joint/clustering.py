@@ -55,11 +55,9 @@ def cycle_positions(times, *, step_hours) -> np.ndarray:
     return np.rint(np.asarray(hours, dtype=float) / step_hours).astype(np.int64)
 
 
-def _blocks_estimate(exceed, block, valid_blocks):
-    """Blocks estimator [3]_: log(1 - Z/k) / (r log(1 - N/n)) over the complete blocks."""
+def _blocks_estimate(exceed, block, valid_blocks, n):
+    """Blocks estimator [3]_: log(1 - Z/k) / (r log(1 - N/n)) over the complete blocks (n values in them)."""
     k = valid_blocks.sum()
-    n_per_block = np.bincount(block, minlength=valid_blocks.size)
-    n = n_per_block[valid_blocks].sum()
     exc_per_block = np.bincount(block[exceed], minlength=valid_blocks.size)[valid_blocks]
     big_z, big_n = np.count_nonzero(exc_per_block), exc_per_block.sum()
     if big_z == k or big_n == 0:
@@ -133,7 +131,9 @@ def extremal_index_by_level(tide_sequence_m, surge_m, positions, *, levels_m=Non
     else:
         levels = np.sort(np.asarray(levels_m, dtype=float))
     block = flat_pos // block_length
-    valid_blocks = np.bincount(block) >= 0.9 * block_length
+    n_per_block = np.bincount(block)
+    valid_blocks = n_per_block >= 0.9 * block_length
+    n_valid = int(n_per_block[valid_blocks].sum())
     rows = []
     for z in levels:
         above = flat_total > z
@@ -141,7 +141,7 @@ def extremal_index_by_level(tide_sequence_m, surge_m, positions, *, levels_m=Non
         if per_series < min_exceedances or per_series * n_offsets < 3:
             continue
         if estimator == "blocks":
-            theta = _blocks_estimate(above, block, valid_blocks)
+            theta = _blocks_estimate(above, block, valid_blocks, n_valid)
         else:
             theta = _estimate(np.sort(flat_pos[above]), estimator=estimator, run_length=run_length)
         if np.isfinite(theta):

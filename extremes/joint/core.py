@@ -242,7 +242,7 @@ def levels_for_rates(z_grid, rate, target_rates) -> np.ndarray:
 
 
 def return_levels_by_convolution(tide_m, surge, *, events_per_year, periods_years, extremal_index=1.0,
-                                 weights=None, grid_step_m=0.001) -> np.ndarray:
+                                 weights=None, grid_step_m=0.005) -> np.ndarray:
     r"""Return levels [m] of :math:`E(z) = \theta N Q(z)` for the periods (``1/rate`` definition).
 
     Parameters
