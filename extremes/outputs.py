@@ -48,6 +48,9 @@ def write_bytes_atomic(path: str | os.PathLike, data: bytes, *, overwrite: bool 
     try:
         with os.fdopen(fd, "wb") as handle:
             handle.write(data)
+        umask = os.umask(0)
+        os.umask(umask)
+        os.chmod(tmp, 0o666 & ~umask)  # mkstemp makes the file private; results are ordinary files
         os.replace(tmp, path)
     except BaseException:
         with contextlib.suppress(FileNotFoundError):
@@ -97,6 +100,9 @@ def output_folder(path: str | os.PathLike, *, overwrite: bool = False) -> Iterat
     path = check_output_folder(path, overwrite=overwrite)
     parent = path.parent if str(path.parent) else Path(".")
     work = Path(tempfile.mkdtemp(prefix=f".{path.name}.", suffix=".tmp", dir=parent))
+    umask = os.umask(0)
+    os.umask(umask)
+    os.chmod(work, 0o777 & ~umask)  # mkdtemp makes the folder private; results are ordinary files
     try:
         yield work
     except BaseException:

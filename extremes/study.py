@@ -210,8 +210,12 @@ def run_study_record(record, *, options: StudyOptions | None = None,
 
         # 4. surge ------------------------------------------------------------------------------------
         stages.start("surge")
-        skew = surge.skew_surges(level_epoch, model)
-        interaction = surge.interaction_tests(level_epoch, model, skew)
+        pad = pd.Timedelta(hours=30)  # predicted turning points located once, shared by both uses below
+        turning_record = tide_datums.high_low_waters(model, level_epoch.index[0] - pad,
+                                                     level_epoch.index[-1] + pad)
+        skew = surge.skew_surges_from_turning_points(level_epoch, turning_record)
+        interaction = surge.interaction_tests_from_series(
+            residual, turning_record.loc[turning_record["kind"] == "high", "time"], skew)
         epoch_time = timestamp_of_decimal_year(epoch_year)
         half = pd.Timedelta(days=_YEAR_DAYS * NODAL_CYCLE_YEARS / 2)
         turning = tide_datums.high_low_waters(model, epoch_time - half, epoch_time + half)

@@ -26,7 +26,8 @@ def command(out_dir, show_progress, overwrite):
     record = example_record_path()
     click.echo(f"Demo: studying {record.name}, the invented example harbour's record (not a real place).",
                err=True)
-    result = run_and_write(record, reader={"datum": "harbour chart datum (invented)"},
+    # the example record's missing-value code and datum (example_records/README.md)
+    result = run_and_write(record, reader={"datum": "Orrindale Gauge Zero (invented)", "missing": [-99.0]},
                            study_options=StudyOptions(), out_dir=out_dir, overwrite=overwrite,
                            show_progress=sys.stderr.isatty() if show_progress is None else show_progress)
     click.echo(summary_text(result, out_dir))
