@@ -24,6 +24,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 import scipy.linalg
+import scipy.linalg.blas
 
 from extremes.errors import DataError, ExtremesWarning, FitError
 from extremes.outputs import write_text_atomic
@@ -79,7 +80,10 @@ def _synthesise(d: np.ndarray, basis: _Basis, amplitudes_m: np.ndarray, phases_d
     for start in range(0, d.shape[0], CHUNK):
         sl = slice(start, start + CHUNK)
         phase, f = basis.phase_and_f(d[sl])
-        out[sl] = (f * np.cos(phase - g)) @ amplitudes_m
+        phase -= g
+        np.cos(phase, out=phase)
+        phase *= f
+        out[sl] = phase @ amplitudes_m
     return out
 
 
@@ -569,23 +573,21 @@ ho (f_i/f_r)`-weighted columns to r's pair (constrained-column form), so the fit
 
     def design(sl: slice) -> np.ndarray:
         phase, f = basis.phase_and_f(d[sl])
-        if inferred:
-            phase[:, m_fit:] -= delta
-            f[:, m_fit:] *= ratio
-        c = f * np.cos(phase)
-        s = f * np.sin(phase)
-        x = np.empty((phase.shape[0], n_par))
+        x = np.empty((phase.shape[0], n_par), order="F")
         x[:, 0] = 1.0
         if trend:
             x[:, 1] = (d[sl] - d_mid) / _DAYS_PER_YEAR
-        cf, sf = c[:, :m_fit], s[:, :m_fit]
-        if inferred:
-            cf = cf.copy()
-            sf = sf.copy()
-            np.add.at(cf.T, ref_index, c[:, m_fit:].T)
-            np.add.at(sf.T, ref_index, s[:, m_fit:].T)
-        x[:, n_lead:n_lead + m_fit] = cf
-        x[:, n_lead + m_fit:] = sf
+        c_block = x[:, n_lead:n_lead + m_fit]
+        s_block = x[:, n_lead + m_fit:]
+        np.cos(phase[:, :m_fit], out=c_block)
+        c_block *= f[:, :m_fit]
+        np.sin(phase[:, :m_fit], out=s_block)
+        s_block *= f[:, :m_fit]
+        for q, r in enumerate(ref_index):  # constrained columns of inferred constituents
+            ph = phase[:, m_fit + q] - delta[q]
+            fi = f[:, m_fit + q] * ratio[q]
+            c_block[:, r] += fi * np.cos(ph)
+            s_block[:, r] += fi * np.sin(ph)
         return x
 
     xtx = np.zeros((n_par, n_par))
@@ -593,8 +595,10 @@ ho (f_i/f_r)`-weighted columns to r's pair (constrained-column form), so the fit
     for start in range(0, n, chunk_size):
         sl = slice(start, start + chunk_size)
         x = design(sl)
-        xtx += x.T @ x
+        upper = scipy.linalg.blas.dsyrk(1.0, x, trans=1)  # X^T X, upper triangle (half the work of gemm)
+        xtx += np.triu(upper) + np.triu(upper, 1).T
         xty += x.T @ y[sl]
+        del x
     scale = np.sqrt(np.diag(xtx))
     if np.any(scale == 0):
         raise FitError("harmonic analysis: a design column is all zero")
@@ -617,29 +621,33 @@ ho (f_i/f_r)`-weighted columns to r's pair (constrained-column form), so the fit
     beta = beta_scaled / scale
     cov_unit = inv_scaled / np.outer(scale, scale)
 
-    resid = np.empty(n)
-    for start in range(0, n, chunk_size):
-        sl = slice(start, start + chunk_size)
-        resid[sl] = y[sl] - design(sl) @ beta
+    z0 = float(beta[0])
+    trend_value = float(beta[1]) if trend else None
+    a_all = beta[n_lead:n_lead + m_fit]
+    b_all = beta[n_lead + m_fit:]
+    amp = np.hypot(a_all, b_all)
+    pha = np.rad2deg(np.arctan2(b_all, a_all)) % 360.0
+    amp_all = np.concatenate([amp, ratio * amp[ref_index]])
+    pha_all = np.concatenate([pha, (pha[ref_index] + np.rad2deg(delta)) % 360.0])
+    # residual by synthesis (one cosine per constituent, no design matrix): equal to y - X beta
+    resid = y - z0 - _synthesise(d, basis, amp_all, pha_all)
+    if trend:
+        resid -= trend_value * (d - d_mid) / _DAYS_PER_YEAR
     dof = n - n_par
     residual_std = float(np.sqrt(np.sum(resid**2) / dof))
     speeds_all = np.array([get_constituent(nm).speed_deg_per_hour for nm in names])
     bands = np.rint(speeds_all / 15.0)
     band_var, how = _band_variances(d, resid, np.concatenate([[0.0], bands]))
-    # white residual variance uses the dof-corrected s^2; the band estimates replace it per constituent
-    z0 = float(beta[0])
-    trend_value = float(beta[1]) if trend else None
     trend_se = float(np.sqrt(cov_unit[1, 1] * band_var[0])) if trend else None
 
     fitted = []
     by_name = {}
     for j, nm in enumerate(names):
         ia, ib = n_lead + j, n_lead + m_fit + j
-        a, b = beta[ia], beta[ib]
+        a, b = a_all[j], b_all[j]
         var = band_var[1 + j]
         va, vb, cab = cov_unit[ia, ia] * var, cov_unit[ib, ib] * var, cov_unit[ia, ib] * var
-        h = float(np.hypot(a, b))
-        g = float(np.rad2deg(np.arctan2(b, a)) % 360.0)
+        h, g = float(amp[j]), float(pha[j])
         if h > 0:
             se_h = float(np.sqrt(max((a * a * va + b * b * vb + 2 * a * b * cab) / h**2, 0.0)))
             se_g = float(np.rad2deg(np.sqrt(max((b * b * va + a * a * vb - 2 * a * b * cab) / h**4, 0.0))))
@@ -650,12 +658,12 @@ ho (f_i/f_r)`-weighted columns to r's pair (constrained-column form), so the fit
         item = FittedConstituent(nm, round(float(speeds_all[j]), 7), h, g, se_h, se_g, snr, False)
         fitted.append(item)
         by_name[nm] = item
-    for nm in inferred:
+    for q, nm in enumerate(inferred):
         ref, rho, dlt = inference[nm]
         r = by_name[ref]
         fitted.append(FittedConstituent(
-            nm, round(get_constituent(nm).speed_deg_per_hour, 7), rho * r.amplitude_m, (r.phase_deg + dlt) % 360.0,
-            rho * r.amplitude_se_m, r.phase_se_deg, r.snr, True))
+            nm, round(get_constituent(nm).speed_deg_per_hour, 7), float(amp_all[m_fit + q]),
+            float(pha_all[m_fit + q]), rho * r.amplitude_se_m, r.phase_se_deg, r.snr, True))
     index_valid = values.index.tz_convert("UTC")
     mid = index_valid[0] + (index_valid[-1] - index_valid[0]) / 2
     logger.info("harmonic analysis: %d samples, %d constituents fitted, %d inferred, condition %.3g, "
