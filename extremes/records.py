@@ -419,7 +419,7 @@ def _read_text(path: Path, *, time_columns, level_column, time_format, offset, u
         logger.info("%s: no header row; columns are named col1, col2, ...", source)
     names = None if has_header else [f"col{i + 1}" for i in range(len(first))]
     if has_header:
-        header = [name.strip() for name in first]
+        header = [name.strip() or f"column{i + 1}" for i, name in enumerate(first)]
         if len(set(header)) != len(header):
             raise DataError(f"{source}: line {n_lead + 1}: repeated column names in the header {header}")
         if len(body) < 2:
@@ -458,6 +458,8 @@ def _read_text(path: Path, *, time_columns, level_column, time_format, offset, u
                         f"separated by {_sep_name(sep)}") from None
     except (UnicodeDecodeError, ValueError, OSError, EOFError, zlib.error) as err:
         raise DataError(f"{source}: cannot be read as delimited text ({_short(err)})") from None
+    if len(frame.columns) == len(header):
+        frame.columns = header  # by position: blank or repeated-looking names as the reader named them
     if frame.empty:
         raise DataError(f"{source}: header only, no data rows (header: {', '.join(header)})")
 
