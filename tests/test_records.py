@@ -301,3 +301,11 @@ def test_truncated_gzip(tmp_path):
     path.write_bytes(gzip.compress(b"time,level\n" + b"2020-01-01T00:00Z,1\n" * 50)[:40])
     with pytest.raises(DataError, match="r.csv.gz"):
         read_record(path)
+
+
+def test_blank_header_name(tmp_path):
+    # found by the fuzz test: a first row with a stamp and an empty field is a header with a blank name
+    path = write(tmp_path / "r.csv", "time,\n2020-01-01T00:00Z,1.5\n2020-01-01T01:00Z,2\n")
+    record = read_record(path)
+    assert record.meta["level_column"] == "column2"
+    assert record.water_level_m.tolist() == [1.5, 2.0]
