@@ -223,6 +223,15 @@ def record_figure(level_m: pd.Series, *, flags=None, gaps=None, datum: str = "un
     ax.plot(t, v, color="0.25", lw=0.6, label=f"level ({int(good.sum())} good samples)")
     times = _utc_naive(level_m.index)
     bottom = mtransforms.blended_transform_factory(ax.transData, ax.transAxes)
+    # the axis follows the good samples; flagged values far outside (e.g. a missing-value code read as a
+    # level) are drawn at the axis edge so that the record stays readable
+    good_values = good_series.to_numpy(dtype=float)
+    if np.isfinite(good_values).any():
+        lo, hi = np.nanmin(good_values), np.nanmax(good_values)
+        pad = 0.1 * max(hi - lo, 0.1)
+        lo, hi = lo - pad, hi + 4 * pad  # headroom for the legend
+    else:
+        lo, hi = -1.0, 1.0
     for i, name in enumerate(sorted(set(codes[~good]))):
         rows = np.flatnonzero(codes == name)
         rows = rows[_thin(rows.size, max_points_per_flag)]
@@ -230,8 +239,13 @@ def record_figure(level_m: pd.Series, *, flags=None, gaps=None, datum: str = "un
         color = _PALETTE[(i + 1) % len(_PALETTE)]
         count = int(np.sum(codes == name))
         if finite.any():
-            ax.scatter(times[rows[finite]], values[rows[finite]], s=12, marker="x", color=color, zorder=3,
+            shown = np.clip(values[rows[finite]], lo, hi)
+            outside = shown != values[rows[finite]]
+            ax.scatter(times[rows[finite]][~outside], shown[~outside], s=12, marker="x", color=color, zorder=3,
                        label=f"{name} ({count})")
+            if outside.any():
+                ax.scatter(times[rows[finite]][outside], shown[outside], s=18, marker="^", color=color, zorder=3,
+                           clip_on=False, label=f"{name} beyond the axis (at the edge)")
         if (~finite).any():
             ax.scatter(times[rows[~finite]], np.full(int((~finite).sum()), 0.02), s=20, marker="|", color=color,
                        transform=bottom, zorder=3, label=f"{name} ({count}, no value)")
@@ -241,6 +255,7 @@ def record_figure(level_m: pd.Series, *, flags=None, gaps=None, datum: str = "un
             ax.axvspan(_utc_naive([start])[0], _utc_naive([end])[0], color="orange", alpha=0.25, lw=0,
                        label=f"gap ({len(spans)})" if j == 0 else None)
     _time_axis(ax)
+    ax.set_ylim(lo, hi)
     ax.set_ylabel(f"water level [m, {datum}]")
     ax.set_title(title or "Record with quality-control flags and gaps")
     ax.legend(loc="upper left", fontsize="small", ncols=3)

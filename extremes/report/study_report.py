@@ -175,13 +175,21 @@ def build_study_report(result, document: dict) -> tuple[str, dict[str, bytes]]:
     table = _fmt_table(result.comparison.table)
     am = result.method_details.get("annual-maxima")
     observed = getattr(am, "sample", None)
+    comparison_fig = figures.methods_comparison_figure(
+        result.curves, recommended=recommended,
+        observed_m=None if observed is None else np.asarray(observed, dtype=float),
+        record_years=result.record_years, periods_range=(1.0, 1000.0))
+    estimates = np.array([c.level_at([1.5, 1000.0]) for c in result.curves.values()])
+    low, high = np.nanmin(estimates[:, 0]), np.nanmax(estimates[:, 1])
+    if np.isfinite(low) and np.isfinite(high) and high > low:
+        # the axis follows the estimates; wide upper bounds run off the top rather than flatten the curves
+        comparison_fig.axes[0].set_ylim(low - 0.1 * (high - low), high + 0.6 * (high - low))
     sections.append(Section(
         title="Methods side by side",
         paragraphs=(result.comparison.reason,),
-        figures=(figure("methods", figures.methods_comparison_figure(
-            result.curves, recommended=recommended,
-            observed_m=None if observed is None else np.asarray(observed, dtype=float),
-            record_years=result.record_years), "Return levels of every method with their intervals."),),
+        figures=(figure("methods", comparison_fig,
+                        "Return levels of every method with their intervals (bands run off the top where the "
+                        "upper bound is far above the estimate; the tables give every bound)."),),
         tables=(TableItem(table, "Return levels of every method [m] with intervals."),),
     ))
 
