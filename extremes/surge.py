@@ -247,7 +247,7 @@ def _check_turning_points(turning_points: Any) -> pd.DataFrame:
 
 def skew_surges_from_turning_points(level_m: pd.Series, turning_points: pd.DataFrame, *,
                                     require_complete: bool = True, refine_crest: bool = True) -> pd.DataFrame:
-    """Skew surge of every tidal cycle from observed levels and predicted high/low waters.
+    r"""Skew surge of every tidal cycle from observed levels and predicted high/low waters.
 
     Parameters
     ----------
