@@ -37,7 +37,7 @@ HOURS_PER_YEAR = 8766.0
 
 def classic_joint_probability(hourly_tide_m, hourly_residual, *, threshold_m=None, threshold_quantile=None,
                               tail_method="mle", clustering="level", extremal_index=None, n_offsets=16,
-                              min_exceedances=10, estimator="blocks", n_bootstrap=1000, confidence=0.95,
+                              min_exceedances=10, estimator="blocks", theta_beyond="trend", n_bootstrap=1000, confidence=0.95,
                               periods_years=DENSE_PERIODS_YEARS, grid_step_m=0.005, datum="unspecified",
                               epoch_year=None, seed=0) -> JointProbabilityResult:
     r"""Still-water return levels by the (revised) joint probability method on hourly values.
@@ -56,6 +56,8 @@ def classic_joint_probability(hourly_tide_m, hourly_residual, *, threshold_m=Non
         ``extremal_index``, or none (classic JPM: every exceeding hour is an event; very conservative).
     n_offsets, min_exceedances, estimator
         Options of :func:`extremes.joint.clustering.extremal_index_by_level` (hourly step, blocks of 709 h).
+    theta_beyond : {"trend", "hold"}
+        Extremal index above the highest estimable level (:func:`extremes.joint.clustering.theta_function`).
     n_bootstrap, confidence, periods_years, grid_step_m, datum, epoch_year, seed
         As in :func:`extremes.joint.skew_surge_joint_probability`.
 
@@ -90,8 +92,9 @@ def classic_joint_probability(hourly_tide_m, hourly_residual, *, threshold_m=Non
         theta_table = extremal_index_by_level(tide, residual, positions, n_offsets=n_offsets,
                                               min_exceedances=min_exceedances, estimator=estimator,
                                               block_length=709, run_length=24, seed=seed)
-        notes.append("revised JPM: extremal index of the hourly level as a function of level, held above "
-                     f"{theta_table['level_m'].iloc[-1]:.2f} m at {theta_table['theta'].iloc[-1]:.2f}")
+        notes.append("revised JPM: extremal index of the hourly level as a function of level, "
+                     f"{theta_table['theta'].iloc[-1]:.2f} at {theta_table['level_m'].iloc[-1]:.2f} m; above: "
+                     + ("held" if theta_beyond == "hold" else "extended along its rising trend, capped at 1"))
     elif clustering == "constant":
         if extremal_index is None or not 0 < float(extremal_index) <= 1:
             raise DataError(f"clustering='constant' needs 0 < extremal_index <= 1; got {extremal_index!r}")
@@ -107,5 +110,5 @@ def classic_joint_probability(hourly_tide_m, hourly_residual, *, threshold_m=Non
                     year_ids=year_ids, periods_years=periods_years, n_bootstrap=n_bootstrap,
                     confidence=confidence, seed=seed, grid_step_m=grid_step_m, datum=datum,
                     epoch_year=epoch_year, tail_method=tail_method, notes=notes, diagnostics=diagnostics,
-                    threshold_m=float(threshold_m),
+                    threshold_m=float(threshold_m), theta_beyond=theta_beyond,
                     interval_method=f"percentile bootstrap of whole years of residual ({n_bootstrap} resamples)")

@@ -12,8 +12,11 @@ residuals) is superimposed on the predicted tide of the nodal cycle at ``n_offse
 sequence (spring-neap, diurnal inequality) but not their chance phase. At each level of a grid of high
 levels the extremal index is estimated from the pooled exceedances by the intervals estimator over blocks of
 two spring-neap cycles [3]_ (or the intervals [2]_ or runs estimators). Levels are taken up to where the synthetic series exceed, on average,
-``min_exceedances`` times; above that, :math:`\theta` is held at its last estimate (the storms of the record
-say nothing about clustering higher up; the unclustered curve, :math:`\theta = 1`, is the upper bound).
+``min_exceedances`` times; above that, :math:`\theta` follows the straight line fitted to the upper half of
+the table when it rises, capped at 1 (default), or is held at its last estimate. The unclustered curve,
+:math:`\theta = 1`, is the upper bound. In the Monte Carlo check (benchmarks/bench_joint.py) the estimates
+follow the true :math:`\theta(z)` of the simulated process within the record, and holding the last value
+under-reads the 100-year level by about 2 %, the trend by about 1 %.
 
 References
 ----------

@@ -147,7 +147,7 @@ def _band_labels(values, edges):
 
 def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None, threshold_quantile=None,
                                  tail_method="mle", clustering="level", extremal_index=None, n_offsets=64,
-                                 min_exceedances=10, estimator="blocks", theta_beyond="hold", stratify=None, n_bands=3,
+                                 min_exceedances=10, estimator="blocks", theta_beyond="trend", stratify=None, n_bands=3,
                                  skew_surge_tide_m=None, interaction=None, n_bootstrap=1000, confidence=0.95,
                                  periods_years=DENSE_PERIODS_YEARS, high_water_years=None, grid_step_m=0.005,
                                  datum="unspecified", epoch_year=None, seed=0) -> JointProbabilityResult:
@@ -176,9 +176,10 @@ def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None,
         The constant extremal index for ``clustering="constant"``.
     n_offsets, min_exceedances, estimator
         Options of :func:`extremes.joint.clustering.extremal_index_by_level`.
-    theta_beyond : {"hold", "trend"}
-        Extremal index above the highest level it can be estimated at: held, or extended along its rising
-        trend up to 1 (:func:`extremes.joint.clustering.theta_function`).
+    theta_beyond : {"trend", "hold"}
+        Extremal index above the highest level it can be estimated at: extended along its rising trend up
+        to 1 (default; clustering weakens with level, and the error leans to the conservative side), or held
+        at the last estimate (:func:`extremes.joint.clustering.theta_function`).
     stratify : {None, "tide-band", "month"}
         Convolve per tide band (tide-dependent skew surge; needs the predicted high water of each skew
         surge) or per calendar month (seasonality; needs high-water times) and sum the rates.
