@@ -230,3 +230,22 @@ def test_monthly_seasonal_variant_sums_monthly_rates():
                                               high_water_years=18.61)
     assert len(monthly.tail) == 12
     np.testing.assert_allclose(monthly.curve.level_at([10, 100]), pooled.curve.level_at([10, 100]), atol=0.08)
+
+
+@pytest.mark.parametrize("estimator", ["blocks", "runs"])
+def test_extremal_index_by_level_known_cluster_size(estimator):
+    # by construction (definition of the extremal index, Leadbetter 1983, from memory: theta = 1 / mean
+    # cluster size): every surge value repeated on 3 consecutive tides, constant tide -> theta = 1/3;
+    # independent surges -> theta = 1
+    from extremes.joint import extremal_index_by_level
+
+    rng = np.random.default_rng(4)
+    base = rng.exponential(0.1, 8000)
+    tide = np.zeros(13_000)
+    positions = np.arange(3 * base.size)
+    clustered = extremal_index_by_level(tide, np.repeat(base, 3), positions, n_offsets=4, estimator=estimator,
+                                        run_length=2)
+    independent = extremal_index_by_level(tide, rng.exponential(0.1, 24_000), positions, n_offsets=4,
+                                          estimator=estimator, run_length=2)
+    np.testing.assert_allclose(clustered["theta"], 1 / 3, atol=0.06)
+    np.testing.assert_allclose(independent["theta"], 1.0, atol=0.12)

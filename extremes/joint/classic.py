@@ -37,7 +37,8 @@ HOURS_PER_YEAR = 8766.0
 
 def classic_joint_probability(hourly_tide_m, hourly_residual, *, threshold_m=None, threshold_quantile=None,
                               tail_method="mle", clustering="level", extremal_index=None, n_offsets=16,
-                              min_exceedances=10, estimator="blocks", theta_beyond="trend", n_bootstrap=1000, confidence=0.95,
+                              min_exceedances=10, estimator="blocks", theta_beyond="trend", n_bootstrap=1000,
+                              confidence=0.95,
                               periods_years=DENSE_PERIODS_YEARS, grid_step_m=0.005, datum="unspecified",
                               epoch_year=None, seed=0) -> JointProbabilityResult:
     r"""Still-water return levels by the (revised) joint probability method on hourly values.

@@ -10,8 +10,10 @@ Method (this package's choice). The observed surge sequence (skew surges, one pe
 residuals) is superimposed on the predicted tide of the nodal cycle at ``n_offsets`` random shifts, giving
 ``n_offsets`` synthetic total-level series that keep the observed storm sequences and the real tidal
 sequence (spring-neap, diurnal inequality) but not their chance phase. At each level of a grid of high
-levels the extremal index is estimated from the pooled exceedances by the intervals estimator over blocks of
-two spring-neap cycles [3]_ (or the intervals [2]_ or runs estimators). Levels are taken up to where the synthetic series exceed, on average,
+levels the extremal index is estimated from the pooled exceedances by the blocks estimator [3]_ over blocks
+of two spring-neap cycles (or by the intervals [2]_ or runs estimators). The blocks estimator is the
+default because the spring-neap cycle groups independent exceedances in time, which the runs and intervals
+estimators read as clustering. Levels are taken up to where the synthetic series exceed, on average,
 ``min_exceedances`` times; above that, :math:`\theta` follows the straight line fitted to the upper half of
 the table when it rises, capped at 1 (default), or is held at its last estimate. The unclustered curve,
 :math:`\theta = 1`, is the upper bound. In the Monte Carlo check (benchmarks/bench_joint.py) the estimates
