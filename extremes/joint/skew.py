@@ -146,7 +146,7 @@ def _band_labels(values, edges):
 
 
 def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None, threshold_quantile=None,
-                                 tail_method="mle", clustering="level", extremal_index=None, n_offsets=64,
+                                 tail_method="mle", clustering="level", extremal_index=None, n_offsets=32,
                                  min_exceedances=10, estimator="blocks", theta_beyond="trend", stratify=None, n_bands=3,
                                  skew_surge_tide_m=None, interaction=None, n_bootstrap=1000, confidence=0.95,
                                  periods_years=DENSE_PERIODS_YEARS, high_water_years=None, grid_step_m=0.005,
