@@ -867,9 +867,19 @@ def run_batch(stations: Sequence[Station | GriddedBlock], *, out_dir: str | os.P
 
     kwargs = dict(study=study, options=options, base_seed=base_seed, out_dir=out_dir, overwrite=overwrite)
     results: list[list[dict] | None] = [None] * len(items)
-    n_workers = workers if workers is not None else min(os.cpu_count() or 1, len(items))
-    context = contextlib.nullcontext(client) if client is not None else dask_client(
+    if not overwrite:  # stations done by an earlier run need no task (nor a cluster, when all are done)
+        for i, item in enumerate(items):
+            found = [completed_results(out_dir / s.name) for s in _stations_of(item)]
+            if all(d is not None for d in found):
+                results[i] = [_outcome(s, status="ok", seed=station_seed(base_seed, s.name), results=d, skipped=True,
+                                       seconds=0.0) for s, d in zip(_stations_of(item), found)]
+    pending = [i for i, r in enumerate(results) if r is None]
+    n_workers = workers if workers is not None else min(os.cpu_count() or 1, max(len(pending), 1))
+    context = contextlib.nullcontext(client) if client is not None or not pending else dask_client(
         scheduler=scheduler, workers=n_workers)
+    done = len(items) - len(pending)
+    if progress is not None and done:
+        progress(done, len(items), f"{done} done before")
     with context as active:
         from distributed import as_completed
 
@@ -877,14 +887,13 @@ def run_batch(stations: Sequence[Station | GriddedBlock], *, out_dir: str | os.P
             out_dir.mkdir(parents=True, exist_ok=True)
         except OSError as err:
             raise OutputError(f"{out_dir}: cannot create the results folder ({err.strerror})") from err
-
         futures = {}
-        for i, item in enumerate(items):
+        for i in pending:
+            item = items[i]
             future = active.submit(_run_item, item, pure=False, key=f"extremes-batch-{i}-{os.urandom(4).hex()}",
                                    **kwargs)
             futures[future] = i
-        done = 0
-        for future in as_completed(futures):
+        for future in (as_completed(futures) if futures else ()):
             i = futures[future]
             try:
                 results[i] = future.result()

@@ -410,3 +410,58 @@ def test_gridded_errors(tmp_path):
     (tmp_path / "text.nc").write_text("not netcdf")
     with pytest.raises(DataError, match="cannot be opened"):
         batch.gridded_blocks(tmp_path / "text.nc")
+
+
+# -- end to end: the full study through the batch ---------------------------------------------------------------
+def write_tidal_record(path: Path, *, years=2.0, seed=0):
+    """TEST HELPER: hourly synthetic gauge record [m]: M2, S2, K1, O1 tides, storm surges and noise."""
+    times = pd.date_range("2010-01-01", periods=int(years * 365.25 * 24), freq="h", tz="UTC")
+    rng = np.random.default_rng(seed)
+    hours = np.arange(times.size)
+    tide = sum(a * np.cos(2 * np.pi * hours * speed / 360.0 - rng.uniform(0, 2 * np.pi))
+               for a, speed in ((1.0, 28.984104), (0.35, 30.0), (0.2, 15.041069), (0.15, 13.943036)))
+    surge = np.convolve(rng.gumbel(0.0, 0.03, times.size), np.ones(24) / 6, mode="same")
+    level = np.round(tide + surge + rng.normal(0, 0.01, times.size), 3)
+    pd.DataFrame({"time": times.strftime("%Y-%m-%dT%H:%M:%SZ"), "level": level}).to_csv(path, index=False)
+    return path
+
+
+@pytest.fixture(scope="module")
+def tidal_records(tmp_path_factory):
+    folder = tmp_path_factory.mktemp("tidal")
+    good = [write_tidal_record(folder / "harbour0.csv", seed=0)]
+    (folder / "empty.csv").write_text("time,level\n")
+    return good, folder / "empty.csv"
+
+
+def test_full_study_through_the_batch_local_and_loopback(tmp_path, tidal_records, local_cluster,
+                                                         loopback_scheduler):
+    import functools
+
+    pytest.importorskip("extremes.study", reason="the study module has not landed yet")
+    from extremes.study_options import StudyOptions
+
+    good, empty = tidal_records
+    stations = batch.stations_from_paths(good + [empty], reader={"datum": "CD"})
+    options = StudyOptions(periods_years=(10.0, 100.0), resamples=20, seed=7)
+    study = functools.partial(batch.study_station, figures=False)
+    local = batch.run_batch(stations, out_dir=tmp_path / "local", options=options, study=study,
+                            scheduler=local_cluster.scheduler_address, errors="ignore")
+    assert [o["status"] == "ok" for o in local.outcomes] == [True, False]
+    assert "empty.csv" in local.outcomes[1]["status"]
+    for outcome in local.outcomes[:1]:
+        results = json.loads((tmp_path / "local" / outcome["station"] / "results.json").read_text())
+        recorded = results["inputs"]["options"]
+        assert recorded.get("study", recorded)["seed"] == batch.station_seed(7, outcome["station"])
+        assert results["record"]["datum"] == "CD"
+        best = next(r for r in results["return_levels"]
+                    if r["method"] == results["recommended_method"] and r["return_period_years"] == 100)
+        row = local.to_frame().set_index("station").loc[outcome["station"]]
+        assert row["recommended_method"] == results["recommended_method"]
+        assert row["level_100_m"] == best["level_m"]
+    remote = batch.run_batch(stations, out_dir=tmp_path / "remote", options=options, study=study,
+                             scheduler=loopback_scheduler, errors="ignore")
+    pd.testing.assert_frame_equal(_numbers(local.to_frame()), _numbers(remote.to_frame()))
+    again = batch.run_batch(stations, out_dir=tmp_path / "local", options=options, study=study,
+                            scheduler=local_cluster.scheduler_address, errors="ignore")
+    assert again.n_skipped == 1 and again.n_failed == 1

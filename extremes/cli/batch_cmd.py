@@ -106,7 +106,7 @@ def command(ctx, records, out_dir, manifest, gridded, block_size, reader, epoch_
 
     def progress(done, total, name):
         bar.set_postfix_str(name[:30], refresh=False)
-        bar.update(1)
+        bar.update(done - bar.n)
 
     study = batch.study_station if figures else functools.partial(batch.study_station, figures=False)
     try:

@@ -40,3 +40,36 @@ def test_unmatched_pattern_and_bad_manifest_exit_1_one_line(tmp_path):
     assert result.exit_code == 1
     assert "expected a 'path' column" in result.output
     assert not (tmp_path / "out").exists()
+
+
+def test_batch_command_end_to_end_failure_resume_and_manifest(tmp_path):
+    pytest.importorskip("extremes.study", reason="the study module has not landed yet")
+    from tests.test_batch import write_tidal_record
+
+    good = write_tidal_record(tmp_path / "harbour.csv", seed=3)
+    (tmp_path / "broken.csv").write_text("time,level\n2020-01-01T00:00Z,abc\n")
+    out = tmp_path / "out"
+    common = ["--out", out, "--datum", "CD", "--periods", "10,100", "--no-figures", "--json"]
+    first = invoke(tmp_path / "*.csv", *common, "--workers", "1")
+    assert first.exit_code == 1, first.output
+    report = json.loads(first.stdout)
+    assert (report["n_stations"], report["n_ok"], report["n_failed"], report["n_skipped"]) == (2, 1, 1, 0)
+    stations = {s["station"]: s for s in report["stations"]}
+    assert stations["harbour"]["status"] == "ok" and stations["broken"]["status"] != "ok"
+    assert "station broken failed" in first.stderr
+    summary = pd.read_csv(out / "summary.csv").set_index("station")
+    results = json.loads((out / "harbour" / "results.json").read_text())
+    best = next(r for r in results["return_levels"]
+                if r["method"] == results["recommended_method"] and r["return_period_years"] == 100)
+    assert summary.loc["harbour", "level_100_m"] == best["level_m"] == stations["harbour"]["level_100_m"]
+    assert summary.loc["harbour", "recommended_method"] == results["recommended_method"]
+    assert (out / "summary.nc").is_file()
+
+    # a manifest naming the same station: found done, skipped, counted
+    (tmp_path / "list.csv").write_text("path,station,units,lat,lon\nharbour.csv,harbour,m,-35.5,138.25\n")
+    second = invoke("--manifest", tmp_path / "list.csv", *common, "--workers", "1")
+    assert second.exit_code == 0, second.output
+    report = json.loads(second.stdout)
+    assert (report["n_stations"], report["n_skipped"]) == (1, 1)
+    assert report["stations"][0]["lat"] == -35.5
+    assert report["stations"][0]["level_100_m"] == best["level_m"]
