@@ -47,30 +47,32 @@ class _Basis:
         self.names = [get_constituent(n).name for n in names]
         self.doodson, self.offset = doodson_matrix(self.names)
         self.f_pow, self.u_mul = nodal_exponents(self.names)
+        self.phase_matrix = np.vstack([self.doodson.T, self.u_mul, self.offset[None, :]]) * _RAD
         self.needs_perigee = "L2" in {fam for n in self.names for fam, _ in get_constituent(n).nodal_f}
 
     def phase_and_f(self, d: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """Phase V + u [rad] and nodal factor f, both of shape (len(d), m), at ``d`` days since JD 2415020.
 
-        V is evaluated at each time. f and u are evaluated exactly once a day (at 12:00 UT) and linearly
-        interpolated in between: N moves 0.053 deg a day, so the interpolation error is below 1e-5 deg.
+        V is evaluated at each time. The nodal terms are evaluated exactly once a day (at 12:00 UT): u is
+        interpolated linearly in between (N moves 0.053 deg a day: error below 1e-5 deg), f takes the mean
+        of the two nodes around the sample (relative error below 5e-4, the largest for OO1).
         """
         args = doodson_variables_days(d)
-        phase = args @ (self.doodson.T * _RAD)
         day = np.floor(d).astype(np.int64)
         k0 = int(day.min())
         nodes = np.arange(k0, int(day.max()) + 2, dtype=float)
         node_args = doodson_variables_days(nodes)
         fam_f, fam_u = family_factors(-node_args[:, 4], node_args[:, 3] if self.needs_perigee else None)
         fam_u = np.rad2deg(np.unwrap(np.deg2rad(fam_u), axis=0))  # continuous between daily nodes
-        f_nodes = np.exp(np.log(np.maximum(fam_f, 1e-300)) @ self.f_pow)
-        u_nodes = (fam_u @ self.u_mul + self.offset) * _RAD
+        fam_logf = np.log(np.maximum(fam_f, 1e-300))
         idx = day - k0
         w = (d - day)[:, None]
-        phase += u_nodes[idx]
-        phase += w * np.diff(u_nodes, axis=0)[idx]
-        f = f_nodes[idx]
-        f += w * np.diff(f_nodes, axis=0)[idx]
+        # interpolate the (few) family values, then one matrix product gives every constituent's phase
+        u_t = fam_u[idx] + w * np.diff(fam_u, axis=0)[idx]
+        lhs = np.concatenate([args, u_t, np.ones((d.shape[0], 1))], axis=1)
+        phase = lhs @ self.phase_matrix
+        f_nodes = np.exp(fam_logf @ self.f_pow)
+        f = (0.5 * (f_nodes[:-1] + f_nodes[1:]))[idx]  # value at mid-day: relative error < 5e-4
         return phase, f
 
 
