@@ -13,6 +13,7 @@ around a cheap task. Each mode's table: workers, wall time, stations per minute,
 from __future__ import annotations
 
 import argparse
+import functools
 import json
 import resource
 import shutil
@@ -76,13 +77,14 @@ def main() -> None:
     parser.add_argument("--workers", default="1,2", help="comma-separated worker counts")
     parser.add_argument("--study", choices=("full", "light"), default="full")
     parser.add_argument("--inprocess", type=int, default=3, help="records timed in process for the reference")
+    parser.add_argument("--no-figures", action="store_true", help="full study without figures and HTML report")
     parser.add_argument("--data", type=Path, help="folder to keep the synthetic records in (reused if present)")
     args = parser.parse_args()
 
     if args.study == "full":
         from extremes.study_options import StudyOptions
         options = StudyOptions()
-        study = batch.study_station
+        study = functools.partial(batch.study_station, figures=not args.no_figures)
     else:
         class _Options:
             seed, periods_years = batch.DEFAULT_SEED, (2, 10, 100, 1000)

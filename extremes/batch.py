@@ -782,8 +782,9 @@ def _check_unique(names: Sequence[str], *, where: str) -> None:
 def dask_client(*, scheduler: str | None = None, workers: int | None = None):
     """A :class:`distributed.Client` on ``scheduler`` or on a new quiet :class:`LocalCluster`.
 
-    The local cluster runs ``workers`` processes (default: the number of CPUs) with one thread each and no
-    dashboard.
+    The local cluster runs ``workers`` processes (default: the number of CPUs) with one thread each; its
+    HTTP server (dashboard, health checks) listens on a free loopback port, so that runs side by side do
+    not compete for port 8787.
     """
     from distributed import Client, LocalCluster
 
@@ -797,7 +798,7 @@ def dask_client(*, scheduler: str | None = None, workers: int | None = None):
             yield client
         return
     n_workers = int(workers or os.cpu_count() or 1)
-    with LocalCluster(n_workers=n_workers, threads_per_worker=1, processes=True, dashboard_address=None,
+    with LocalCluster(n_workers=n_workers, threads_per_worker=1, processes=True, dashboard_address="127.0.0.1:0",
                       silence_logs=logging.ERROR) as cluster, Client(cluster) as client:
         yield client
 

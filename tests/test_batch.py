@@ -97,7 +97,7 @@ def records(tmp_path_factory):
 def local_cluster():
     from distributed import LocalCluster
 
-    with LocalCluster(n_workers=2, threads_per_worker=1, processes=True, dashboard_address=None,
+    with LocalCluster(n_workers=2, threads_per_worker=1, processes=True, dashboard_address="127.0.0.1:0",
                       silence_logs=40) as cluster:
         yield cluster
 
