@@ -177,7 +177,8 @@ def gpd_return_level(periods_years, *, threshold, scale, shape, rate_per_year, a
 
 
 def _gpd_level_from_m(m, threshold, scale, shape):
-    m, threshold, scale, shape = np.broadcast_arrays(*(np.asarray(a, dtype=float) for a in (m, threshold, scale, shape)))
+    m, threshold, scale, shape = np.broadcast_arrays(
+        *(np.asarray(a, dtype=float) for a in (m, threshold, scale, shape)))
     small = np.abs(shape) < SHAPE_EPS
     safe = np.where(small, 1.0, shape)
     with np.errstate(divide="ignore", invalid="ignore"):
@@ -349,7 +350,8 @@ def _gev_nll_hess(x, loc, scale, shape):
         h_xx = s * L**2 / safe**4 - 2.0 * (s - 1.0) * L / safe**3
         a = (-safe / sig, -safe * y / sig, y)
         H = np.empty((B, 3, 3))
-        # second derivatives of t: t_mm = 0, t_ms = xi/sig^2, t_mx = -1/sig, t_ss = 2 xi y/sig^2, t_sx = -y/sig, t_xx = 0
+        # second derivatives of t: t_mm = 0, t_ms = xi/sig^2, t_mx = -1/sig, t_ss = 2 xi y/sig^2,
+        # t_sx = -y/sig, t_xx = 0
         t2 = {(0, 0): 0.0, (0, 1): safe / sig**2, (0, 2): -1.0 / sig, (1, 1): 2 * safe * y / sig**2,
               (1, 2): -y / sig, (2, 2): 0.0}
         for i in range(3):
@@ -1202,7 +1204,8 @@ def fit_gev_rlargest(sample, *, r=None):
 __all__ = [
     "FIT_METHODS", "MODELS", "GEVFit", "GPDFit", "fit_gev", "fit_gumbel", "fit_gpd", "fit_exponential",
     "fit_gev_many", "fit_gpd_many", "gev_loglik", "gumbel_loglik", "gpd_loglik", "exponential_loglik",
-    "gev_rlargest_loglik", "fit_gev_rlargest", "fit_gev_rlargest_many", "gev_return_level", "gev_quantile", "gev_cdf", "gev_exceedance_probability",
+    "gev_rlargest_loglik", "fit_gev_rlargest", "fit_gev_rlargest_many", "gev_return_level", "gev_quantile",
+    "gev_cdf", "gev_exceedance_probability",
     "gpd_return_level", "gpd_exceedance_rate", "gpd_exceedance_probability", "sample_lmoments",
     "gev_lmoment_parameters",
 ]

@@ -27,7 +27,7 @@ import numpy as np
 import pandas as pd
 from scipy import special
 
-from extremes.errors import ExtremesWarning, FitError
+from extremes.errors import ExtremesWarning
 from extremes.extremal import distributions as D
 
 logger = logging.getLogger(__name__)
