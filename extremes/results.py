@@ -143,6 +143,7 @@ class StudyResult:
                 "encounter": slr["encounter"],
                 "design_levels": slr["design_levels"],
                 "scenarios": slr["scenario_results"],
+                "allowance": slr.get("allowance"),
             },
             "interaction": self.interaction,
             "methods": {name: _detail_dict(detail) for name, detail in self.method_details.items()},

@@ -401,8 +401,25 @@ def _sea_level_rise(sealevel, curve, options, epoch_year):
                     curve, accepted_probability=options.accepted_risk, design_life_years=life, rise_m=rise),
                 "rise_end_of_life_m": float(rise[-1]),
             })
+    allowance = None
+    names = {name.lower(): name for name in (scenarios.names if scenarios is not None else ())}
+    if {"low", "central", "high"} <= set(names):
+        # Hunter (2012) allowance with the rise at the end of the design life taken as normal: mean = the
+        # central scenario, 5-95 % range = low..high (an assumption, stated in the results)
+        ends = {key: float(sealevel.rise_by_year(scenarios, names[key], start_year=epoch_year,
+                                                 design_life_years=life, reference_year=epoch_year)[-1])
+                for key in ("low", "central", "high")}
+        scale = sealevel.gumbel_scale_of_curve(curve, period_years=100.0)
+        allowance = {
+            "allowance": sealevel.allowance_normal(mean_m=ends["central"],
+                                                   sd_m=(ends["high"] - ends["low"]) / (2 * 1.6448536),
+                                                   scale_m=scale),
+            "assumption": "rise at the end of the design life normal, mean = central scenario, "
+                          "5-95 % range = low to high scenario; Gumbel scale from the 100-year slope of the curve",
+        }
     return {
         "rows": rows,
+        "allowance": allowance,
         "method": curve.method,
         "level_100_m": level_100,
         "amplification": amplification,

@@ -213,6 +213,16 @@ def build_study_report(result, document: dict) -> tuple[str, dict[str, bytes]]:
         paragraphs.append(f"Scenario {item['scenario']}: rise {item['rise_end_of_life_m']:.2f} m by the end of "
                           f"the design life; {getattr(item['encounter_100yr_level'], 'summary', '')} "
                           f"{getattr(item['design_level'], 'summary', '')}")
+    if slr.get("allowance"):
+        allowance = slr["allowance"]["allowance"]
+        paragraphs.append(
+            f"Allowance for the uncertain rise over the design life (Hunter 2012): {allowance.allowance_m:.3f} m "
+            f"(mean rise {allowance.mean_rise_m:.3f} m, standard deviation {allowance.sd_rise_m:.3f} m, Gumbel "
+            f"scale {allowance.scale_m:.3f} m); assumption: {slr['allowance']['assumption']}.")
+    if slr["scenario_results"]:
+        scenarios = slr["scenarios"]
+        rises.update({name: np.asarray(scenarios.rise_since(name, years, reference_year=epoch), dtype=float)
+                      for name in scenarios.names})
     if rises:
         slr_figures.append(figure("sea_level_rise", figures.sea_level_rise_figure(curve, years=years, rise_m=rises),
                                   "Return levels against time under rising sea level."))
