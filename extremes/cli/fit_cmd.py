@@ -9,21 +9,9 @@ import warnings
 import click
 
 from extremes.cli.options import json_option, periods_option, reader_options, seed_option
+from extremes.extremal import CI_METHODS, FIT_METHODS, MODELS, SAMPLE_METHODS  # the library's lists, once
 
 logger = logging.getLogger(__name__)
-
-# the library's lists, spelled here only so that --help does not import numpy/scipy; checked equal in the tests
-FIT_METHODS = ("mle", "lmoments")
-MODELS = ("gev", "gumbel")
-CI_METHODS = ("profile", "delta", "bootstrap")
-SAMPLE_METHODS = ("annual-maxima", "peaks-over-threshold", "r-largest")
-
-
-def _library_lists():
-    from extremes import extremal
-
-    return (tuple(extremal.FIT_METHODS), tuple(extremal.MODELS), tuple(extremal.CI_METHODS),
-            tuple(extremal.SAMPLE_METHODS))
 
 
 @click.command("fit", short_help="Fit GEV/Gumbel (or GPD, r-largest) and print return levels.")

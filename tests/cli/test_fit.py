@@ -25,11 +25,15 @@ def ref():
     return json.loads((DATA / "evd_reference_values.json").read_text())
 
 
-def test_lists_match_library():
+def test_choices_come_from_the_library():
+    from extremes import extremal
     from extremes.cli import fit_cmd
 
-    assert fit_cmd._library_lists() == (fit_cmd.FIT_METHODS, fit_cmd.MODELS, fit_cmd.CI_METHODS,
-                                        fit_cmd.SAMPLE_METHODS)
+    params = {p.name: p for p in fit_cmd.command.params}
+    assert list(params["model"].type.choices) == sorted(extremal.MODELS)
+    assert list(params["method"].type.choices) == sorted(extremal.FIT_METHODS)
+    assert list(params["ci"].type.choices) == sorted(extremal.CI_METHODS)
+    assert list(params["sample"].type.choices) == list(extremal.SAMPLE_METHODS)
     assert fit_cmd.command.name == "fit"
 
 
