@@ -7,23 +7,8 @@ import sys
 from pathlib import Path
 
 import click
-from click.core import ParameterSource
 
 from extremes.cli import options
-
-_READER_PARAMS = {"time_columns": "time_columns", "level_column": "level_column", "time_format": "time_format",
-                  "units": "units", "missing": "missing", "utc_offset": "utc_offset", "datum": "datum",
-                  "decimal_comma": "decimal", "variable": "variable"}
-
-
-def _given(ctx: click.Context, name: str) -> bool:
-    return ctx.get_parameter_source(name) not in (ParameterSource.DEFAULT, ParameterSource.DEFAULT_MAP, None)
-
-
-def _slr_callback(ctx, param, value):
-    if value is None:
-        return None
-    return options.parse_number_list(value, name="--slr")
 
 
 @click.command("batch", short_help="One study per record (or model point) on dask; a summary of all.")
@@ -37,13 +22,7 @@ def _slr_callback(ctx, param, value):
 @click.option("--block-size", type=click.IntRange(min=1), default=64, show_default=True, metavar="N",
               help="Gridded input: points per dask task.")
 @options.reader_options
-@click.option("--epoch", "epoch_year", type=float, metavar="YEAR",
-              help="Mean-sea-level epoch of the levels [decimal year]; default the end of each record.")
-@options.periods_option
-@click.option("--slr", callback=_slr_callback, metavar="LIST", help="Comma-separated sea-level-rise offsets [m].")
-@options.seed_option
-@click.option("--config", type=click.Path(exists=True, dir_okay=False, path_type=Path), metavar="STUDY.toml",
-              help="Study file; options given on the command line override it.")
+@options.study_options
 @click.option("--scheduler", metavar="ADDRESS",
               help="Address of a running dask scheduler (e.g. tcp://host:8786); default a local cluster.")
 @click.option("--workers", type=click.IntRange(min=1), metavar="N",
@@ -51,11 +30,12 @@ def _slr_callback(ctx, param, value):
 @click.option("--figures/--no-figures", default=True, show_default=True,
               help="Draw each station's figures and HTML report (--no-figures: numbers and tables only).")
 @options.overwrite_option
-@click.option("--progress", "show_progress", is_flag=True, help="Show a progress bar on stderr even when not a TTY.")
+@click.option("--progress/--no-progress", "show_progress", default=None,
+              help="Show a progress bar on stderr (default: only on a terminal).")
 @options.json_option
 @click.pass_context
-def command(ctx, records, out_dir, manifest, gridded, block_size, reader, epoch_year, periods, slr, seed, config,
-            scheduler, workers, figures, overwrite, show_progress, as_json):
+def command(ctx, records, out_dir, manifest, gridded, block_size, reader, config, study, scheduler, workers,
+            figures, overwrite, show_progress, as_json):
     """Run the whole study on every RECORD (files or glob patterns), on every record of a --manifest and on
     every point of --gridded model output, one dask task per record (per block of points), and write one
     folder per station under --out with a summary of all.
@@ -66,29 +46,13 @@ def command(ctx, records, out_dir, manifest, gridded, block_size, reader, epoch_
     Example:  extremes batch 'gauges/*.csv' --out results --units cm --missing -99 --workers 4
     """
     from extremes import batch
-    from extremes.errors import DataError
-    from extremes.study_options import StudyOptions, load_study_file
 
     if not (records or manifest or gridded):
         raise click.UsageError("give at least one RECORD, a --manifest or a --gridded file")
     if scheduler is not None and workers is not None:
         raise click.UsageError("--workers sizes the local cluster; it cannot be used with --scheduler")
-
-    # reader options: the study file's [record] table, then the flags given on the command line
-    study_options, file_reader = (load_study_file(config) if config is not None else (StudyOptions(), {}))
-    merged_reader = {k: v for k, v in file_reader.items()}
-    for param, key in _READER_PARAMS.items():
-        if _given(ctx, param) or key not in merged_reader:
-            merged_reader[key] = reader[key]
-    changes = {"epoch_year": epoch_year, "slr_m": tuple(slr) if slr is not None else None}
-    if _given(ctx, "periods") or config is None:
-        changes["periods_years"] = tuple(periods)
-    if _given(ctx, "seed") or config is None:
-        changes["seed"] = seed
-    try:
-        study_options = study_options.replace(**changes)
-    except DataError as err:
-        raise click.UsageError(str(err)) from err
+    # flags win over the study file (--config), whose [record] table supplies reader defaults
+    study_options, merged_reader = options.resolve_study_options(config, study, reader)
 
     stations: list = []
     if records:
@@ -102,16 +66,16 @@ def command(ctx, records, out_dir, manifest, gridded, block_size, reader, epoch_
     from tqdm import tqdm
 
     bar = tqdm(total=len(stations), unit="task", file=sys.stderr, leave=False,
-               disable=not (show_progress or sys.stderr.isatty()))
+               disable=not (sys.stderr.isatty() if show_progress is None else show_progress))
 
     def progress(done, total, name):
         bar.set_postfix_str(name[:30], refresh=False)
         bar.update(done - bar.n)
 
-    study = batch.study_station if figures else functools.partial(batch.study_station, figures=False)
+    per_station = batch.study_station if figures else functools.partial(batch.study_station, figures=False)
     try:
         summary = batch.run_batch(stations, out_dir=out_dir, options=study_options, scheduler=scheduler,
-                                  workers=workers, overwrite=overwrite, progress=progress, study=study,
+                                  workers=workers, overwrite=overwrite, progress=progress, study=per_station,
                                   errors="ignore")
     finally:
         bar.close()

@@ -20,7 +20,7 @@ def invoke(*args):
     (["a.csv", "--out", "x", "--periods", "0.5,10"], "return periods must all be >= 1"),
     (["a.csv", "--out", "x", "--slr", "0.5,abc"], "expected comma-separated numbers"),
     (["a.csv", "--out", "x", "--workers", "0"], "--workers"),
-    (["a.csv", "--out", "x", "--epoch", "3000"], "epoch_year"),
+    (["a.csv", "--out", "x", "--epoch", "3000"], "--epoch"),
 ])
 def test_usage_errors_exit_2(tmp_path, monkeypatch, args, message):
     monkeypatch.chdir(tmp_path)
@@ -49,7 +49,7 @@ def test_batch_command_end_to_end_failure_resume_and_manifest(tmp_path):
     good = write_tidal_record(tmp_path / "harbour.csv", seed=3)
     (tmp_path / "broken.csv").write_text("time,level\n2020-01-01T00:00Z,abc\n")
     out = tmp_path / "out"
-    common = ["--out", out, "--datum", "CD", "--periods", "10,100", "--no-figures", "--json"]
+    common = ["--out", out, "--datum", "CD", "--periods", "10,100", "--resamples", "20", "--no-figures", "--json"]
     first = invoke(tmp_path / "*.csv", *common, "--workers", "1")
     assert first.exit_code == 1, first.output
     report = json.loads(first.stdout)
