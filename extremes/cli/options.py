@@ -12,10 +12,9 @@ DEFAULT_PERIODS_YEARS = (1, 2, 5, 10, 20, 50, 100, 200, 500, 1000)
 
 
 def record_argument(func):
-    """The RECORD argument: an existing file (not a folder)."""
-    return click.argument(
-        "record", type=click.Path(exists=True, dir_okay=False, path_type=Path), metavar="RECORD"
-    )(func)
+    """The RECORD argument: a path; a missing or unreadable file is an input error (exit 1, one line from
+    the reader), not a usage error."""
+    return click.argument("record", type=click.Path(path_type=Path), metavar="RECORD")(func)
 
 
 def _check_offset(ctx, param, value):

@@ -77,6 +77,8 @@ def test_bad_option_value_exit_2(gauge_csv, options):
     assert run(gauge_csv, *options).exit_code == 2
 
 
-def test_missing_file_and_folder_exit_2(tmp_path):
-    assert run(tmp_path / "absent.csv").exit_code == 2
-    assert run(tmp_path).exit_code == 2
+def test_missing_file_and_folder_exit_1(tmp_path):
+    # a missing file or a folder is bad input (CONTRACT.md: exit 1), reported in one line naming it
+    for bad in (tmp_path / "absent.csv", tmp_path):
+        result = run(bad)
+        assert result.exit_code == 1 and str(bad.name) in result.output and "Traceback" not in result.output
