@@ -171,6 +171,15 @@ def run_study_record(record, *, options: StudyOptions | None = None,
         stages.start("quality control")
         qc = quality.check_record(record)
         level = qc.level_m
+        n_out = int(qc.counts.get("out_of_range", 0))
+        if n_out:
+            where = qc.positions("out_of_range", 10)
+            values = record.water_level_m.iloc[where["row"].to_numpy() - 1]  # rows are 1-based
+            notes.append(
+                f"{n_out} readings outside the record's robust range were excluded as faults; check that none is "
+                f"a real extreme: " + ", ".join(f"{pd.Timestamp(t):%Y-%m-%d %H:%M} ({v:.3f} m)"
+                                                for t, v in zip(where["time"], values.to_numpy()))
+                + (" ..." if n_out > 10 else ""))
         valid = level.dropna()
         if valid.size < 2:
             raise DataError(f"{record.source}: no valid readings left after quality control")
