@@ -53,9 +53,8 @@ class _Basis:
     def phase_and_f(self, d: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """Phase V + u [rad] and nodal factor f, both of shape (len(d), m), at ``d`` days since JD 2415020.
 
-        V is evaluated at each time. The nodal terms are evaluated exactly once a day (at 12:00 UT): u is
-        interpolated linearly in between (N moves 0.053 deg a day: error below 1e-5 deg), f takes the mean
-        of the two nodes around the sample (relative error below 5e-4, the largest for OO1).
+        V is evaluated at each time. The nodal terms are evaluated exactly once a day (at 12:00 UT) and
+        interpolated linearly in between (N moves 0.053 deg a day: errors below 1e-5 deg in u and 1e-6 in f).
         """
         args = doodson_variables_days(d)
         day = np.floor(d).astype(np.int64)
@@ -72,7 +71,8 @@ class _Basis:
         lhs = np.concatenate([args, u_t, np.ones((d.shape[0], 1))], axis=1)
         phase = lhs @ self.phase_matrix
         f_nodes = np.exp(fam_logf @ self.f_pow)
-        f = (0.5 * (f_nodes[:-1] + f_nodes[1:]))[idx]  # value at mid-day: relative error < 5e-4
+        f = f_nodes[idx]
+        f += w * np.diff(f_nodes, axis=0)[idx]
         return phase, f
 
 
