@@ -80,6 +80,16 @@ def _z_crit(confidence):
 # ----------------------------------------------------------------------------------------------------------
 # profile likelihood (batched)
 # ----------------------------------------------------------------------------------------------------------
+def _heavy_start(d_log_scale, shape):
+    return lambda ih: np.stack([ih[:, 0] + d_log_scale, np.full(len(ih), shape)], axis=1)
+
+
+#: extra starting points (log-scale offset, shape) of the inner maximisation: far up a long-period upper bound
+#: the profile's maximum lies at a heavy shape that a warm start from the estimate can miss, which made the
+#: upper bound too low and not monotone in the period
+_HEAVY_STARTS = tuple(_heavy_start(ds, xi) for ds, xi in ((0.3, 0.3), (0.5, 0.4), (0.8, 0.6), (1.0, 0.8)))
+
+
 def _profile_bounds(nll_full, to_params, inner_hat, z_hat, side, se, ll_hat, crit, *, extra_starts=(),
                     derivs=None):
     """Roots of the profile deviance 2[ℓ̂ - ℓ_p(z)] = crit, one per problem (vectorised).
@@ -224,7 +234,7 @@ def _profile_gev(fit, T, crit, se):
             return np.stack([z + sig * a, sig, xi], axis=1)
         inner_hat = np.tile([[math.log(fit.scale), fit.shape]], (2 * K, 1))
         extra = (lambda ih: np.stack([ih[:, 0], np.zeros(len(ih))], axis=1),
-                 lambda ih: np.stack([ih[:, 0] + 0.5, np.full(len(ih), 0.2)], axis=1))
+                 lambda ih: np.stack([ih[:, 0] + 0.5, np.full(len(ih), 0.2)], axis=1)) + _HEAVY_STARTS
     derivs = None
     if fit.model == "gev":
         x = fit.data[None, :]
@@ -309,7 +319,9 @@ def _profile_gpd(fit, T, crit, se, *, aep):
                 sig = (z - u) / denom
             return np.stack([np.where(sig > 0, sig, np.nan), xi, lam], axis=1)
         inner_hat = np.tile([[math.log(fit.rate_per_year), fit.shape]], (2 * K, 1))
-        extra = (lambda ih: np.stack([ih[:, 0], np.zeros(len(ih))], axis=1),)
+        # inner parameters here are (log rate, shape): heavy shapes at the estimated rate
+        extra = (lambda ih: np.stack([ih[:, 0], np.zeros(len(ih))], axis=1),) + tuple(
+            _heavy_start(0.0, xi) for xi in (0.3, 0.5, 0.8))
 
     def nll_safe(params, rows):
         v = nll_full(params, rows)

@@ -52,7 +52,7 @@ def build_study_report(result, document: dict) -> tuple[str, dict[str, bytes]]:
     summary = Summary(
         datum=datum, epoch_year=epoch, recommended_method=recommended, levels=levels,
         paragraphs=(
-            f"Recommended method: {recommended}. {result.comparison.reason}",
+            f"Why this method: {result.comparison.reason}",
             f"Return periods are {'1/AEP' if curve.period_definition == '1/AEP' else 'average recurrence intervals (1/rate; AEP = 1 - exp(-1/T))'}; "
             f"intervals are {100 * curve.confidence:.0f}% ({curve.interval_method or 'see method'}).",
         ),
@@ -165,7 +165,7 @@ def build_study_report(result, document: dict) -> tuple[str, dict[str, bytes]]:
         if detail is not None and getattr(detail, "clustering_effect", None) is not None:
             joint_tables.append(TableItem(_fmt_table(detail.clustering_effect),
                                           f"{method}: effect of storm clustering (extremal index by level)."))
-    notes = [f"{name}: " + " ".join(getattr(d, "notes", ()) or ()) for name, d in result.method_details.items()
+    notes = [f"{name}: " + "; ".join(getattr(d, "notes", ()) or ()) for name, d in result.method_details.items()
              if getattr(d, "notes", None)]
     sections.append(Section(title="Extreme-value and joint-probability fits",
                             paragraphs=tuple(notes) or ("",), figures=tuple(fit_figures),
