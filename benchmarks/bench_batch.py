@@ -9,6 +9,8 @@ the cost per station against one in-process study of the same record (goal: with
 pandas and fits a Gumbel distribution to the annual maxima (scipy), to measure the cost the batch adds
 around a cheap task. Each mode's table: workers, wall time, stations per minute, seconds per station
 (x workers), the ratio of that to the in-process cost, and the peak resident memory of each worker.
+The cluster's startup is timed apart. Run it on an otherwise quiet machine: the ratio compares two timings
+taken minutes apart, and dask workers run numpy with one BLAS thread each.
 """
 from __future__ import annotations
 
