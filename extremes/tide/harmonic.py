@@ -76,7 +76,59 @@ class _Basis:
         return phase, f
 
 
+#: linear rates of the Set A polynomials (tau, s, h, p, N', p1) [deg/day]; tau = hour angle + h - s
+_RATES_DEG_PER_DAY = np.array([360.0 + 0.9856473354 - 13.1763965268, 13.1763965268, 0.9856473354,
+                               0.1114040803, 0.0529539222, 0.0000470684])
+#: length of the blocks of :func:`_synthesise_regular` [days]
+_BLOCK_DAYS = 0.25
+#: shortest regular series worth the block recurrence of :func:`_synthesise_regular` [samples]
+_REGULAR_MIN = 2048
+
+
+def _regular_step(d: np.ndarray) -> float | None:
+    """The constant spacing of ``d`` [days] when the times are a regular ascending grid, else None."""
+    if d.shape[0] < _REGULAR_MIN:
+        return None
+    step = (d[-1] - d[0]) / (d.shape[0] - 1)
+    if not step > 0:
+        return None
+    # stamps are whole nanoseconds: a regular grid deviates from the line by rounding only (< 1e-6 day)
+    if np.max(np.abs(d - (d[0] + step * np.arange(d.shape[0])))) > 1e-6:
+        return None
+    return float(step)
+
+
+def _synthesise_regular(d0: float, step: float, n: int, basis: _Basis, amplitudes_m: np.ndarray,
+                        phases_deg: np.ndarray) -> np.ndarray:
+    r"""Prediction on a regular grid by blocks of (at most) six hours.
+
+    Within a block the equilibrium argument advances linearly, :math:`V_j(t_0 + k\Delta) = V_j(t_0) +
+    \sigma_j k \Delta` (the quadratic terms of the polynomials move V by less than 1e-9 deg in a day), and the
+    nodal terms f and u are held at their values at the middle of the block (u moves at most about 0.1 deg a
+    day, for L2, so the phase is off by less than 0.013 deg). Then
+    :math:`\eta_{bk} = \mathrm{Re} \sum_j C_{bj} E_{jk}` with :math:`C_{bj} = f_{bj} H_j
+    e^{i(V_{bj} + u_{bj} - G_j)}` and :math:`E_{jk} = e^{i \sigma_j k \Delta}`: two matrix products instead of a
+    cosine per sample and constituent. Agrees with the sample-by-sample synthesis to about 1e-4 of each
+    amplitude (a tenth of a millimetre for a 1 m tide).
+    """
+    per_block = max(1, int(np.floor(_BLOCK_DAYS / step + 1e-9)))
+    n_blocks = -(-n // per_block)
+    half = 0.5 * step * (per_block - 1)
+    # nodal terms at the middle of each block; V carried back linearly to the block's first sample
+    phase, f = basis.phase_and_f(d0 + step * per_block * np.arange(n_blocks) + half)
+    speed_rad_per_day = (basis.doodson @ _RATES_DEG_PER_DAY) * _RAD
+    phase -= phases_deg * _RAD + speed_rad_per_day * half
+    amp = f * amplitudes_m
+    c_re, c_im = amp * np.cos(phase), amp * np.sin(phase)
+    arg = speed_rad_per_day[:, None] * (step * np.arange(per_block))[None, :]
+    out = c_re @ np.cos(arg) - c_im @ np.sin(arg)
+    return out.reshape(-1)[:n]
+
+
 def _synthesise(d: np.ndarray, basis: _Basis, amplitudes_m: np.ndarray, phases_deg: np.ndarray) -> np.ndarray:
+    step = _regular_step(d)
+    if step is not None:
+        return _synthesise_regular(float(d[0]), step, d.shape[0], basis, amplitudes_m, phases_deg)
     out = np.empty(d.shape[0])
     g = phases_deg * _RAD
     for start in range(0, d.shape[0], CHUNK):
