@@ -46,6 +46,9 @@ __all__ = ["StudyOptions", "load_study_file", "run_study", "run_study_record", "
 NODAL_CYCLE_YEARS = 18.61
 #: days per year used to turn decimal years into times (mean Gregorian year)
 _YEAR_DAYS = 365.2425
+#: resamples of the intervals of the hourly joint-probability method, a comparison method [-]
+CHECK_RESAMPLES = 200
+_CHECK_PROFILE_PERIODS_YEARS = (1.001, 1.1, 2, 5, 10, 50, 100, 500, 1000, 10_000)
 #: the least record a study accepts [years]
 MIN_RECORD_YEARS = 1.0
 
@@ -238,7 +241,8 @@ def run_study_record(record, *, options: StudyOptions | None = None,
         curves, method_details = _direct_methods(joint, level_epoch, options, common, notes)
         stages.start("joint probability")
         ssjpm = joint.skew_surge_joint_probability(
-            high_waters["level_m"].to_numpy(), skew_series, interaction=interaction,
+            pd.Series(high_waters["level_m"].to_numpy(), index=pd.DatetimeIndex(high_waters["time"])),
+            skew_series, interaction=interaction,
             n_bootstrap=options.resamples, confidence=options.confidence, seed=options.seed, **common,
         )
         curves["skew-surge-joint-probability"] = ssjpm.curve
@@ -355,9 +359,11 @@ def _direct_methods(joint, level_epoch, options, common, notes):
     except ExtremesError as err:
         notes.append(f"peaks-over-threshold not available: {err}")
     try:
+        # a check method: its profile intervals at ten periods (interpolated in log period) keep it quick
         curves["r-largest"] = joint.direct_r_largest(level_epoch, min_separation_hours=options.min_separation_hours,
                                                      min_coverage=options.min_year_coverage,
-                                                     confidence=options.confidence, **common)
+                                                     confidence=options.confidence,
+                                                     profile_periods_years=_CHECK_PROFILE_PERIODS_YEARS, **common)
     except ExtremesError as err:
         notes.append(f"r-largest not available: {err}")
     return curves, details
@@ -370,8 +376,9 @@ def _classic_method(joint, model, epoch_time, half, residual, level_epoch, optio
     hourly_tide = model.predict(hours).to_numpy()
     hourly_residual = residual.resample("1h").mean() if residual.index.freq != pd.Timedelta("1h") else residual
     try:
+        # a comparison method: at most CHECK_RESAMPLES resamples (stated in its interval method)
         result = joint.classic_joint_probability(
-            hourly_tide, hourly_residual, n_bootstrap=options.resamples,
+            hourly_tide, hourly_residual, n_bootstrap=min(options.resamples, CHECK_RESAMPLES),
             confidence=options.confidence, seed=options.seed, **common,
         )
     except ExtremesError as err:
