@@ -73,7 +73,8 @@ def build_study_report(result, document: dict) -> tuple[str, dict[str, bytes]]:
     ]
     if rec.get("datum_shift_candidates"):
         record_paragraphs.append(
-            "Candidate datum shifts (step changes in monthly means) were found: "
+            "Candidate datum shifts (step changes in monthly means; the test also responds to real year-to-year "
+            "changes of mean sea level) were found: "
             + "; ".join(f"{c['time']} ({c['size_m']:+.3f} m)" for c in rec["datum_shift_candidates"])
             + ". Check them against the gauge's levelling history before relying on the levels.")
     sections.append(Section(
