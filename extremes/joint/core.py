@@ -32,7 +32,7 @@ import logging
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import signal, stats
+from scipy import stats
 
 from extremes.errors import DataError
 
@@ -200,6 +200,15 @@ def _tide_histogram(tide, w, h):
     return x0, hist[:nx]
 
 
+def _fft_convolve_rows(rows: np.ndarray, kernel: np.ndarray) -> np.ndarray:
+    """Full linear convolution of each row of ``rows`` with ``kernel`` by real FFTs (numpy only, so that the
+    slow import of scipy.signal is avoided)."""
+    n = rows.shape[-1] + kernel.size - 1
+    size = 1 << int(np.ceil(np.log2(max(n, 1))))
+    spectrum = np.fft.rfft(rows, size, axis=-1) * np.fft.rfft(kernel, size)
+    return np.fft.irfft(spectrum, size, axis=-1)[..., :n]
+
+
 def _binned_exceedance(tide, w, sf_rows, *, z0, nz, h):
     """Q on the grid z0 + h*j (j < nz) for each row of ``sf_rows(s)`` (shape (B, len(s)))."""
     x0, hist = _tide_histogram(tide, w, h)
@@ -207,7 +216,7 @@ def _binned_exceedance(tide, w, sf_rows, *, z0, nz, h):
     m = np.arange(-(nx - 1), nz)
     s = (z0 - x0) + h * m
     sfv = np.atleast_2d(sf_rows(s))
-    conv = signal.fftconvolve(sfv, hist[None, :], mode="full", axes=-1)
+    conv = _fft_convolve_rows(sfv, hist)
     q = conv[:, nx - 1:nx - 1 + nz]
     return np.clip(q, 0.0, 1.0)
 
