@@ -49,6 +49,8 @@ _YEAR_DAYS = 365.2425
 #: resamples of the intervals of the hourly joint-probability method, a comparison method [-]
 CHECK_RESAMPLES = 200
 _CHECK_PROFILE_PERIODS_YEARS = (1.001, 1.1, 2, 5, 10, 50, 100, 500, 1000, 10_000)
+#: the fewest complete years for a GEV fit of annual maxima (or r-largest) [-]
+MIN_ANNUAL_MAXIMA = 10
 #: the least record a study accepts [years]
 MIN_RECORD_YEARS = 1.0
 
@@ -329,12 +331,22 @@ class DirectFit:
         return {"method": self.method, "n": int(self.sample.size), "fit": self.fit, "notes": list(self.notes)}
 
 
+class _Skip(Exception):
+    """A method left out on purpose (its reason is already in the notes)."""
+
+
 def _direct_methods(joint, level_epoch, options, common, notes):
     """Annual maxima (GEV), peaks over threshold (GPD) and r-largest of the epoch-adjusted total level."""
     from extremes.extremal import distributions, samples, threshold
 
     curves, details = {}, {}
+    complete_years = int(samples.annual_maxima(level_epoch, min_coverage=options.min_year_coverage).maxima.size)
+    if complete_years < MIN_ANNUAL_MAXIMA:
+        notes.append(f"annual-maxima and r-largest not fitted: {complete_years} complete years; a GEV fit needs "
+                     f"at least {MIN_ANNUAL_MAXIMA}")
     try:
+        if complete_years < MIN_ANNUAL_MAXIMA:
+            raise _Skip
         curve = joint.direct_annual_maxima(level_epoch, min_coverage=options.min_year_coverage,
                                            confidence=options.confidence, **common)
         am = samples.annual_maxima(level_epoch, min_coverage=options.min_year_coverage)
@@ -342,6 +354,8 @@ def _direct_methods(joint, level_epoch, options, common, notes):
         curves["annual-maxima"] = curve
         details["annual-maxima"] = DirectFit("annual-maxima", curve, am.maxima.rename("annual_max_m"), fit,
                                              tuple(curve.notes))
+    except _Skip:
+        pass
     except ExtremesError as err:
         notes.append(f"annual-maxima not available: {err}")
     try:
@@ -359,11 +373,16 @@ def _direct_methods(joint, level_epoch, options, common, notes):
     except ExtremesError as err:
         notes.append(f"peaks-over-threshold not available: {err}")
     try:
-        # a check method: its profile intervals at ten periods (interpolated in log period) keep it quick
+        if complete_years < MIN_ANNUAL_MAXIMA:
+            raise _Skip
+        # a check method: delta-method intervals keep it quick (its profile likelihood has no closed-form
+        # derivatives and costs seconds a period); the curve's interval_method says so
         curves["r-largest"] = joint.direct_r_largest(level_epoch, min_separation_hours=options.min_separation_hours,
-                                                     min_coverage=options.min_year_coverage,
+                                                     min_coverage=options.min_year_coverage, ci="delta",
                                                      confidence=options.confidence,
                                                      profile_periods_years=_CHECK_PROFILE_PERIODS_YEARS, **common)
+    except _Skip:
+        pass
     except ExtremesError as err:
         notes.append(f"r-largest not available: {err}")
     return curves, details

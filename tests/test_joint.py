@@ -196,7 +196,13 @@ def test_compare_methods_rule_and_table():
     assert "depends on tide level" in cmp.reason
     assert compare_methods(curves, record_years=30.0, interaction=Dependent(),
                            stratified=True).recommended_method == "skew-surge-joint-probability"
-    assert compare_methods(curves, record_years=8.0).recommended_method == "annual-maxima"
+    # short records: peaks over threshold (every storm) before annual maxima (one value a year)
+    assert compare_methods(curves, record_years=8.0).recommended_method == "peaks-over-threshold"
+    assert compare_methods(curves[:2], record_years=8.0).recommended_method == "annual-maxima"
+    # no direct fit at all: the joint method is reported with a strong caution
+    only_joint = compare_methods(curves[:1], record_years=3.0)
+    assert only_joint.recommended_method == "skew-surge-joint-probability"
+    assert "great care" in only_joint.reason
     with pytest.raises(DataError):
         compare_methods([], record_years=10.0)
 

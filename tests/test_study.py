@@ -164,3 +164,22 @@ def test_scenarios_give_encounter_design_level_and_allowance(tmp_path):
     assert allowance.allowance_m == pytest.approx(mean + sd ** 2 / (2 * allowance.scale_m), rel=1e-6)
     # encounter probability of the 100-year level over 50 years without rise: 1 - 0.99^50 = 0.395 (METHODS [C])
     assert slr["encounter"][0].probability == pytest.approx(0.395, abs=0.003)
+
+
+def test_short_record_gets_no_annual_maxima_fit(tmp_path):
+    # three years of the invented harbour's process: a three-parameter GEV on three annual maxima is
+    # meaningless, so annual maxima and r-largest are left out with a note, and a direct method using every
+    # storm is recommended
+    from extremes.example_records import make_examples
+    from extremes.study import run_study
+    from extremes.study_options import StudyOptions
+
+    times = pd.date_range("2019-01-01", "2021-12-31 23:00", freq="h", tz="UTC")
+    level, _ = make_examples.harbour_levels(times, np.random.default_rng(3))
+    path = tmp_path / "short.csv"
+    pd.DataFrame({"time": times.strftime("%Y-%m-%dT%H:%M:%SZ"), "level_m": np.round(level, 3)}).to_csv(
+        path, index=False)
+    result = run_study(path, options=StudyOptions(resamples=10))
+    assert "annual-maxima" not in result.curves and "r-largest" not in result.curves
+    assert any("complete years" in note for note in result.notes)
+    assert result.recommended_method != "annual-maxima"

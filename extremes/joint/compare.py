@@ -7,9 +7,10 @@ Rule (this package's, in order; never the highest or lowest level):
    stratified variant was used): it uses every tide, is free of timing errors and extrapolates through the
    surge tail alone [1]_.
 2. ``joint-probability`` (revised JPM, hourly) under the same conditions when no skew-surge curve is given.
-3. Otherwise ``peaks-over-threshold`` (more data than annual maxima) when the record covers >= 20 years,
-   else ``annual-maxima``; direct fits on records shorter than ~20 years extrapolate poorly and are
-   flagged. Annual maxima (GEV) always remain a check.
+3. Otherwise ``peaks-over-threshold`` (it uses every storm, annual maxima one value a year), else
+   ``annual-maxima``, else ``r-largest``; direct fits on records shorter than ~20 years extrapolate poorly
+   and are flagged. If no direct fit exists, the joint method is reported with a strong caution. Annual
+   maxima (GEV) always remain a check.
 
 A method whose curve is missing at the comparison periods is skipped. The reason states the record length,
 the interaction verdict and any diagnostics passed in.
@@ -133,12 +134,18 @@ def compare_methods(curves, *, record_years, interaction=None, stratified=False,
         why.append(f"shorter than {min_record_years_jpm:g} years: the joint methods' surge tail and extremal "
                    "index are not trusted")
     if pick is None:
-        order = ("peaks-over-threshold", "annual-maxima", "r-largest") if record_years >= 20 else (
-            "annual-maxima", "peaks-over-threshold", "r-largest")
-        pick = next((m for m in order if m in curves), next(iter(curves)))
-        why.append(f"{pick} fits the total level directly")
-        if record_years < 20:
-            why.append("direct fits on fewer than ~20 years extrapolate poorly: treat long periods with care")
+        # peaks over threshold use every storm, annual maxima one value a year: POT first
+        order = ("peaks-over-threshold", "annual-maxima", "r-largest")
+        pick = next((m for m in order if m in curves), None)
+        if pick is not None:
+            why.append(f"{pick} fits the total level directly")
+            if record_years < 20:
+                why.append("direct fits on fewer than ~20 years extrapolate poorly: treat long periods with care")
+        else:
+            pick = next((m for m in ("skew-surge-joint-probability", "joint-probability") if m in curves),
+                        next(iter(curves)))
+            why.append(f"no direct fit was possible, so {pick} is reported although the record is short: treat "
+                       "every level beyond a few years with great care")
     if "annual-maxima" in curves and pick != "annual-maxima":
         why.append("annual maxima (GEV) kept as a check")
     for name, text in (diagnostics or {}).items():

@@ -7,7 +7,12 @@ and cautions, and the provenance needed to reproduce every number.
 """
 from __future__ import annotations
 
+import functools
 import logging
+import multiprocessing
+import os
+from dataclasses import dataclass
+from typing import Callable
 
 import numpy as np
 import pandas as pd
@@ -15,6 +20,54 @@ import pandas as pd
 logger = logging.getLogger(__name__)
 
 __all__ = ["build_study_report"]
+
+#: the figure jobs of the report being drawn (read by forked workers, which inherit them)
+_JOBS: list = []
+
+
+@dataclass
+class _SectionSpec:
+    """A section whose figures are still names of figure jobs."""
+
+    title: str
+    paragraphs: tuple = ()
+    figures: tuple = ()
+    tables: tuple = ()
+
+
+def _draw(index: int) -> bytes | None:
+    """Build and draw figure job ``index`` of :data:`_JOBS` as PNG bytes (None if it fails)."""
+    from extremes.report import figures
+
+    name, build, _ = _JOBS[index]
+    try:
+        return figures.to_png(build())
+    except Exception as err:  # noqa: BLE001 - a figure must never sink the report; the log says why
+        logger.warning("figure %s not drawn: %s", name, err)
+        return None
+
+
+def _draw_all(jobs) -> dict[str, bytes]:
+    """Draw every figure job; on two or more cores in forked worker processes, else one by one."""
+    global _JOBS
+    _JOBS = list(jobs)
+    try:
+        workers = min(len(_JOBS), os.cpu_count() or 1, 2)
+        drawn = None
+        # daemonic processes (e.g. dask workers) may not have children: they draw one by one
+        if (workers > 1 and "fork" in multiprocessing.get_all_start_methods()
+                and not multiprocessing.current_process().daemon):
+            try:
+                with multiprocessing.get_context("fork").Pool(workers) as pool:
+                    drawn = pool.map(_draw, range(len(_JOBS)), chunksize=1)
+            except (OSError, AssertionError, RuntimeError) as err:
+                logger.info("figures drawn one by one (no worker processes: %s)", err)
+        if drawn is None:
+            drawn = [_draw(i) for i in range(len(_JOBS))]
+    finally:
+        names = [name for name, _, _ in _JOBS]
+        _JOBS = []
+    return {name: png for name, png in zip(names, drawn) if png is not None}
 
 
 def _fmt_table(frame: pd.DataFrame, digits: int = 3) -> pd.DataFrame:
@@ -35,14 +88,17 @@ def build_study_report(result, document: dict) -> tuple[str, dict[str, bytes]]:
         ``result.to_dict()`` (computed once by the caller).
     """
     from extremes.report import figures
-    from extremes.report.html import FigureItem, Section, Summary, TableItem, render_report
+    from extremes.report.html import FigureItem, Summary, TableItem, render_report
+    from extremes.report.html import Section as RealSection
 
-    pngs: dict[str, bytes] = {}
+    jobs: list[tuple[str, Callable, str]] = []
 
-    def figure(name: str, fig, caption: str) -> FigureItem:
-        png = figures.to_png(fig)
-        pngs[name] = png
-        return FigureItem(png=png, caption=caption, alt=caption)
+    def figure(name: str, build: Callable, caption: str) -> str:
+        """Register a figure: ``build()`` makes it; it is drawn later, in parallel where possible."""
+        jobs.append((name, build, caption))
+        return name
+
+    Section = _SectionSpec  # noqa: N806 - sections hold figure names until the figures are drawn
 
     datum, epoch = result.datum, result.epoch_year
     recommended = result.recommended_method
@@ -80,8 +136,8 @@ def build_study_report(result, document: dict) -> tuple[str, dict[str, bytes]]:
     sections.append(Section(
         title="The record and its quality",
         paragraphs=tuple(record_paragraphs),
-        figures=(figure("record", figures.record_figure(result.record.water_level_m, flags=qc.flags, gaps=gaps,
-                                                        datum=datum),
+        figures=(figure("record", lambda: figures.record_figure(result.record.water_level_m, flags=qc.flags,
+                                                                gaps=gaps, datum=datum),
                         "The record with flagged readings marked by flag and gaps shaded."),),
         tables=(TableItem(flag_table, "Rows by quality flag."),
                 TableItem(pd.DataFrame({"year": [int(y) for y in qc.completeness_by_year.index],
@@ -105,7 +161,7 @@ def build_study_report(result, document: dict) -> tuple[str, dict[str, bytes]]:
             "Tidal datums come from a prediction over a full 18.61-year nodal cycle (HAT, LAT, means of high "
             "and low waters); spring and neap levels follow Z0 +/- (M2 +/- S2).",
         ),
-        figures=(figure("tide_fit", figures.tide_fit_figure(result.level_epoch_m, predicted, datum=datum),
+        figures=(figure("tide_fit", lambda: figures.tide_fit_figure(result.level_epoch_m, predicted, datum=datum),
                         "Observed and predicted levels over a sample fortnight, and the residual spectrum."),),
         tables=(TableItem(_fmt_table(constituents[["name", "speed_deg_per_hour", "amplitude_m", "phase_deg",
                                                    "amplitude_se_m", "phase_se_deg", "snr"]], 4),
@@ -137,7 +193,7 @@ def build_study_report(result, document: dict) -> tuple[str, dict[str, bytes]]:
             "highest observed level in a tidal cycle minus the predicted high water of that cycle.",
             f"Tide-surge interaction: {result.interaction.verdict}",
         ),
-        figures=(figure("residual", figures.residual_figure(result.residual_m, skew_surge_m=skew_series),
+        figures=(figure("residual", lambda: figures.residual_figure(result.residual_m, skew_surge_m=skew_series),
                         "Non-tidal residual and skew surges."),),
     ))
 
@@ -150,16 +206,12 @@ def build_study_report(result, document: dict) -> tuple[str, dict[str, bytes]]:
             continue
         values = sample.to_numpy() if hasattr(sample, "to_numpy") else np.asarray(sample)
         values = values[:, 0] if values.ndim == 2 else values
-        try:
-            fig = figures.fit_diagnostics_figure(
-                values[np.isfinite(values)], result.curves[method], cdf=getattr(detail, "cdf", None),
-                quantile=getattr(detail, "quantile", None), record_years=result.record_years,
-                title=method)
-        except Exception as err:  # noqa: BLE001 - a figure must never sink the report; the text says why
-            logger.warning("diagnostics figure of %s not drawn: %s", method, err)
-            continue
-        fit_figures.append(figure(f"fit_{method}", fig, f"Diagnostics of the {method} fit: QQ, PP and "
-                                                       "return-level plot with observed points."))
+        fit_figures.append(figure(
+            f"fit_{method}",
+            functools.partial(figures.fit_diagnostics_figure, values[np.isfinite(values)], result.curves[method],
+                              cdf=getattr(detail, "cdf", None), quantile=getattr(detail, "quantile", None),
+                              record_years=result.record_years, title=method),
+            f"Diagnostics of the {method} fit: QQ, PP and return-level plot with observed points."))
     joint_tables = []
     for method in ("skew-surge-joint-probability", "joint-probability"):
         detail = result.method_details.get(method)
@@ -176,19 +228,22 @@ def build_study_report(result, document: dict) -> tuple[str, dict[str, bytes]]:
     table = _fmt_table(result.comparison.table)
     am = result.method_details.get("annual-maxima")
     observed = getattr(am, "sample", None)
-    comparison_fig = figures.methods_comparison_figure(
-        result.curves, recommended=recommended,
-        observed_m=None if observed is None else np.asarray(observed, dtype=float),
-        record_years=result.record_years, periods_range=(1.0, 1000.0))
-    estimates = np.array([c.level_at([1.5, 1000.0]) for c in result.curves.values()])
-    low, high = np.nanmin(estimates[:, 0]), np.nanmax(estimates[:, 1])
-    if np.isfinite(low) and np.isfinite(high) and high > low:
-        # the axis follows the estimates; wide upper bounds run off the top rather than flatten the curves
-        comparison_fig.axes[0].set_ylim(low - 0.1 * (high - low), high + 0.6 * (high - low))
+    def comparison_figure():
+        fig = figures.methods_comparison_figure(
+            result.curves, recommended=recommended,
+            observed_m=None if observed is None else np.asarray(observed, dtype=float),
+            record_years=result.record_years, periods_range=(1.0, 1000.0))
+        estimates = np.array([c.level_at([1.5, 1000.0]) for c in result.curves.values()])
+        low, high = np.nanmin(estimates[:, 0]), np.nanmax(estimates[:, 1])
+        if np.isfinite(low) and np.isfinite(high) and high > low:
+            # the axis follows the estimates; wide upper bounds run off the top rather than flatten the curves
+            fig.axes[0].set_ylim(low - 0.1 * (high - low), high + 0.6 * (high - low))
+        return fig
+
     sections.append(Section(
         title="Methods side by side",
         paragraphs=(result.comparison.reason,),
-        figures=(figure("methods", comparison_fig,
+        figures=(figure("methods", comparison_figure,
                         "Return levels of every method with their intervals (bands run off the top where the "
                         "upper bound is far above the estimate; the tables give every bound)."),),
         tables=(TableItem(table, "Return levels of every method [m] with intervals."),),
@@ -225,7 +280,8 @@ def build_study_report(result, document: dict) -> tuple[str, dict[str, bytes]]:
         rises.update({name: np.asarray(scenarios.rise_since(name, years, reference_year=epoch), dtype=float)
                       for name in scenarios.names})
     if rises:
-        slr_figures.append(figure("sea_level_rise", figures.sea_level_rise_figure(curve, years=years, rise_m=rises),
+        slr_figures.append(figure("sea_level_rise", lambda: figures.sea_level_rise_figure(curve, years=years,
+                                                                                          rise_m=rises),
                                   "Return levels against time under rising sea level."))
     sections.append(Section(title="Sea-level rise", paragraphs=tuple(paragraphs), figures=tuple(slr_figures),
                             tables=(TableItem(_fmt_table(slr_rows), "Recommended levels under each offset."),)))
@@ -240,6 +296,12 @@ def build_study_report(result, document: dict) -> tuple[str, dict[str, bytes]]:
         "warnings": "; ".join(result.warnings) or "none",
         "notes": "; ".join(result.notes) or "none",
     }
+    pngs = _draw_all(jobs)
+    captions = {name: caption for name, _, caption in jobs}
+    sections = [RealSection(title=spec.title, paragraphs=spec.paragraphs, tables=spec.tables,
+                            figures=tuple(FigureItem(png=pngs[n], caption=captions[n], alt=captions[n])
+                                          for n in spec.figures if n in pngs))
+                for spec in sections]
     html = render_report(title=f"Design still-water levels: {result.source.split('/')[-1]}", summary=summary,
                          sections=sections, cautions=result.cautions, provenance=provenance)
     return html, pngs

@@ -126,7 +126,7 @@ def _synthesise_regular(d0: float, step: float, n: int, basis: _Basis, amplitude
 
 
 class _GridBlocks:
-    """Samples on a regular grid (gaps allowed) split into six-hour blocks, for fast phases.
+    r"""Samples on a regular grid (gaps allowed) split into six-hour blocks, for fast phases.
 
     ``cos_sin(rows)`` gives :math:`f_j\cos\phi_j` and :math:`f_j\sin\phi_j` at the samples ``rows`` from the
     block phases, with the same approximation as :func:`_synthesise_regular` (V linear within a block, f and u
