@@ -15,7 +15,7 @@ logger = logging.getLogger(__name__)
 
 
 @click.command("fit", short_help="Fit GEV/Gumbel (or GPD, r-largest) and print return levels.")
-@click.argument("file", type=click.Path(exists=True, dir_okay=False), metavar="FILE")
+@click.argument("file", type=click.Path(), metavar="FILE")
 @click.option("--model", type=click.Choice(sorted(MODELS)), default="gev", show_default=True,
               help="gev or gumbel (with peaks over threshold: GPD or exponential).")
 @click.option("--method", type=click.Choice(sorted(FIT_METHODS)), default="mle", show_default=True,

@@ -96,7 +96,7 @@ def test_bad_file_and_bad_options(tmp_path):
     assert run(DATA / "portpirie.csv", "--ci", "wald").exit_code == 2
     assert run(DATA / "portpirie.csv", "--periods", "ten").exit_code == 2
     assert run(DATA / "portpirie.csv", "--method", "lmoments", "--ci", "profile").exit_code == 2
-    assert run(tmp_path / "missing.csv").exit_code == 2
+    assert run(tmp_path / "missing.csv").exit_code == 1  # bad input, not a usage error (CONTRACT.md)
 
 
 @pytest.fixture(scope="module")
