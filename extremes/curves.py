@@ -32,7 +32,15 @@ DENSE_PERIODS_YEARS = np.unique(
 
 
 def aep_from_period(periods_years, *, definition: PeriodDefinition) -> np.ndarray:
-    """Annual exceedance probability of return periods ``periods_years`` [years] under ``definition``."""
+    """Annual exceedance probability of return periods ``periods_years`` [years] under ``definition``.
+
+    Examples
+    --------
+    An average recurrence interval of 100 years is an AEP of 0.995 % (METHODS.md sec. 9):
+
+    >>> round(float(aep_from_period(100.0, definition="1/rate")), 6)
+    0.00995
+    """
     periods = np.asarray(periods_years, dtype=float)
     if definition == "1/AEP":
         return 1.0 / periods
