@@ -165,6 +165,8 @@ def run_study_record(record, *, options: StudyOptions | None = None,
     from extremes.tide.harmonic import analyse_tide
 
     options = options or StudyOptions()
+    if options.slr_scenarios:
+        sealevel.read_scenarios(options.slr_scenarios)  # a bad scenario file fails now, not after the fits
     stages = _stages or _Stages(progress)
     notes: list[str] = []
     caught: list[str] = []

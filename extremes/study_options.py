@@ -86,6 +86,26 @@ class StudyOptions:
     resamples: int = 500
 
     def __post_init__(self):
+        try:
+            self._coerce()
+        except (TypeError, ValueError) as err:
+            raise DataError(f"study options: a value has the wrong type ({err}); numbers expected for "
+                            "epoch_year, periods_years, slr_m, design_life_years, accepted_risk, seed, "
+                            "confidence, min_year_coverage, min_separation_hours and resamples") from None
+
+    def _coerce(self):
+        for name in ("design_life_years", "accepted_risk", "confidence", "min_year_coverage",
+                     "min_separation_hours"):
+            object.__setattr__(self, name, float(getattr(self, name)))
+        for name in ("seed", "resamples"):
+            value = getattr(self, name)
+            if isinstance(value, bool) or float(value) != int(value):
+                raise ValueError(f"{name} must be a whole number, got {value!r}")
+            object.__setattr__(self, name, int(value))
+        if self.epoch_year is not None:
+            object.__setattr__(self, "epoch_year", float(self.epoch_year))
+        if isinstance(self.periods_years, (str, bytes)) or isinstance(self.slr_m, (str, bytes)):
+            raise ValueError("periods_years and slr_m must be lists of numbers")
         periods = tuple(float(p) for p in self.periods_years)
         if not periods or any(not (p >= 1) for p in periods):
             raise DataError(f"periods_years must all be >= 1 year; got {list(self.periods_years)}")
@@ -169,5 +189,5 @@ def load_study_file(path: str | Path) -> tuple[StudyOptions, dict]:
         reader["time_columns"] = [value] if isinstance(value, str) else list(value)
     try:
         return StudyOptions(**kwargs), reader
-    except TypeError as err:
+    except (TypeError, DataError) as err:
         raise DataError(f"{path}: {err}") from None

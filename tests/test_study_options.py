@@ -36,6 +36,8 @@ def test_study_file_tables(tmp_path):
     ("[study\n", "not valid TOML"),
     ("[study]\nperiods_years = [0.5]\n", "periods_years must all be >= 1"),
     ("[study]\nconfidence = 1.5\n", "confidence must be between 0 and 1"),
+    ("[study]\nseed = \"x\"\n", "wrong type"),
+    ("[sea_level_rise]\noffsets_m = \"0.5\"\n", "wrong type"),
 ])
 def test_bad_study_files_name_the_problem(tmp_path, text, message):
     study = tmp_path / "study.toml"
