@@ -45,21 +45,21 @@ from typing import Any, Callable, Iterable, Literal, Mapping, Sequence
 import numpy as np
 import pandas as pd
 
+from extremes.constants import DEFAULT_SEED, UNIT_TO_METRES
 from extremes.errors import DataError, ExtremesError, ExtremesWarning, OutputError
 from extremes.outputs import write_bytes_atomic, write_text_atomic
 
 logger = logging.getLogger(__name__)
 
 #: base seed used when the options carry none (the command line's default ``--seed``)
-DEFAULT_SEED = 20261202
 #: columns of a manifest CSV (``path`` required, the others optional; see :func:`read_manifest`)
 MANIFEST_COLUMNS = ("path", "station", "units", "datum", "missing", "utc_offset", "time_column",
                     "level_column", "time_format", "decimal", "variable", "lat", "lon")
 #: the return period of the summary's headline columns (``level_100_m`` ...) [years]
 HEADLINE_PERIOD_YEARS = 100.0
 _COMPRESSION_SUFFIXES = (".gz", ".bz2", ".xz", ".zip")
-_UNIT_SCALE_M = {"m": 1.0, "metre": 1.0, "metres": 1.0, "meter": 1.0, "meters": 1.0, "cm": 0.01,
-                 "mm": 0.001, "ft": 0.3048, "feet": 0.3048}
+_UNIT_SCALE_M = {**UNIT_TO_METRES, "metre": 1.0, "metres": 1.0, "meter": 1.0, "meters": 1.0,
+                 "feet": UNIT_TO_METRES["ft"]}
 _LEVEL_STANDARD_NAMES = ("sea_surface_height_above_geopotential_datum", "sea_surface_height",
                          "sea_surface_height_above_mean_sea_level", "sea_surface_height_above_reference_ellipsoid",
                          "water_surface_height_above_reference_datum", "sea_surface_elevation")

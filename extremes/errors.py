@@ -14,6 +14,10 @@ class DataError(ExtremesError, ValueError):
     """The input data is unusable: unreadable file, wrong layout, too short a record."""
 
 
+class InputTypeError(DataError, TypeError):
+    """An input has the wrong type (e.g. an array where a time-indexed series is expected)."""
+
+
 class DatumError(DataError):
     """Series on different vertical datums were combined."""
 

@@ -48,6 +48,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
+from extremes.constants import DAYS_PER_YEAR
 from extremes.errors import DataError, ExtremesWarning
 from extremes.records import GaugeRecord
 
@@ -592,7 +593,7 @@ def datum_shift_candidates(level_m: pd.Series, *, interval: pd.Timedelta | None 
     n = len(months)
     if n < 2 * min_segment_months:
         return empty
-    t_years = ((months.index - months.index[0]) / pd.Timedelta(days=365.25)).to_numpy(dtype=float)
+    t_years = ((months.index - months.index[0]) / pd.Timedelta(days=DAYS_PER_YEAR)).to_numpy(dtype=float)
     x = months.to_numpy(dtype=float)
     i, j = np.triu_indices(n, k=1)
     slope = float(np.median((x[j] - x[i]) / (t_years[j] - t_years[i])))  # Theil-Sen [3]

@@ -32,12 +32,12 @@ from typing import Any, Sequence
 import numpy as np
 import pandas as pd
 
+from extremes.constants import UNIT_TO_METRES
 from extremes.errors import DataError
 
 logger = logging.getLogger(__name__)
 
 #: factor that turns a level in these units into metres (1 ft = 0.3048 m exactly, international foot)
-UNIT_TO_METRES = {"m": 1.0, "cm": 0.01, "mm": 0.001, "ft": 0.3048}
 #: divisors used for the metric units, so that 123 cm gives exactly the float 1.23
 _UNIT_DIVISOR = {"m": 1.0, "cm": 100.0, "mm": 1000.0}
 #: spellings of units attributes found in NetCDF files

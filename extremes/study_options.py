@@ -33,11 +33,9 @@ import tomllib
 from dataclasses import dataclass
 from pathlib import Path
 
+from extremes.constants import DEFAULT_PERIODS_YEARS, DEFAULT_SEED, DEFAULT_SLR_M
 from extremes.errors import DataError
 
-DEFAULT_PERIODS_YEARS = (1.0, 2.0, 5.0, 10.0, 20.0, 50.0, 100.0, 200.0, 500.0, 1000.0)
-DEFAULT_SLR_M = (0.0, 0.25, 0.5, 1.0)
-DEFAULT_SEED = 20261202
 
 _READER_KEYS = {"time_columns", "level_column", "time_format", "units", "missing", "utc_offset", "datum",
                 "decimal", "variable"}

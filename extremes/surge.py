@@ -46,12 +46,16 @@ import numpy as np
 import pandas as pd
 from scipy import stats
 
+from extremes.constants import NODAL_CYCLE_YEARS
 from extremes.errors import DataError, DatumError, ExtremesWarning, FitError
+from extremes.timebase import decimal_year, level_series, sampling_interval, utc_index
+from extremes.timebase import ns_to_utc as _ns_to_utc
+from extremes.timebase import year_start_ns as _year_start_ns
 
 logger = logging.getLogger(__name__)
 
 #: period of the lunar nodal cycle used for the optional nodal term of the MSL trend [years]
-NODAL_PERIOD_YEARS = 18.613
+NODAL_PERIOD_YEARS = NODAL_CYCLE_YEARS
 
 _NS_PER_HOUR = 3_600_000_000_000
 
@@ -79,76 +83,21 @@ __all__ = [
 def _utc_index(index: Any, name: str) -> pd.DatetimeIndex:
     if not isinstance(index, pd.DatetimeIndex):
         raise DataError(f"{name} must have a DatetimeIndex; got {type(index).__name__}")
-    if index.tz is None:
-        raise ValueError(f"{name} has naive time stamps; expected tz-aware UTC times")
-    return index.tz_convert("UTC").as_unit("ns")
+    return utc_index(index, name=name)
 
 
 def _check_level_series(level_m: Any, name: str = "level_m") -> pd.Series:
     """Float series on a sorted, unique, tz-aware UTC index (a converted copy)."""
-    if not isinstance(level_m, pd.Series):
-        raise DataError(f"{name} must be a pandas Series of levels [m]; got {type(level_m).__name__}")
-    index = _utc_index(level_m.index, name)
-    if not index.is_unique:
-        raise DataError(f"{name} has {int(index.duplicated().sum())} duplicated time stamps; expected a unique index "
-                        "(run quality control first)")
-    if not index.is_monotonic_increasing:
-        raise DataError(f"{name} time stamps are not sorted; expected increasing times (run quality control first)")
-    out = pd.Series(np.asarray(level_m.to_numpy(dtype=float, na_value=np.nan), dtype=float), index=index,
-                    name=level_m.name)
-    out.index.name = "time"
-    out.attrs = dict(level_m.attrs)
-    return out
+    return level_series(level_m, name=name)
 
 
 def _times(values: Any, name: str) -> pd.DatetimeIndex:
-    index = pd.DatetimeIndex(values)
-    return _utc_index(index, name)
-
-
-def _ns_to_utc(ns: np.ndarray) -> pd.DatetimeIndex:
-    return pd.to_datetime(np.asarray(ns, dtype=np.int64), unit="ns", utc=True)
+    return utc_index(values, name=name)
 
 
 def _sampling_interval_ns(index: pd.DatetimeIndex) -> int:
     """Most common positive spacing of the index [ns]."""
-    ns = index.asi8
-    if ns.size < 2:
-        raise DataError(f"level_m needs at least 2 samples to find its sampling interval; got {ns.size}")
-    diffs = np.diff(ns)
-    diffs = diffs[diffs > 0]
-    values, counts = np.unique(diffs, return_counts=True)
-    return int(values[np.argmax(counts)])
-
-
-def decimal_year(times: Any) -> np.ndarray:
-    """Decimal years of UTC times.
-
-    Parameters
-    ----------
-    times : array-like of datetime
-        Tz-aware times (converted to UTC).
-
-    Returns
-    -------
-    numpy.ndarray
-        Calendar year plus the elapsed fraction of that calendar year (365 or 366 days of 86 400 s). [years]
-
-    Raises
-    ------
-    ValueError
-        If the times are naive.
-    """
-    index = _times(times, "times")
-    years = index.year.to_numpy()
-    start = _year_start_ns(years)
-    end = _year_start_ns(years + 1)
-    return years + (index.asi8 - start) / (end - start)
-
-
-def _year_start_ns(years: np.ndarray) -> np.ndarray:
-    """UTC 1 January 00:00 of each year [ns since 1970]."""
-    return (np.asarray(years, dtype=np.int64) - 1970).astype("datetime64[Y]").astype("datetime64[ns]").astype(np.int64)
+    return int(sampling_interval(index).value)
 
 
 def _datum_of(obj: Any) -> str | None:

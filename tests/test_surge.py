@@ -101,9 +101,13 @@ def test_skew_surge_rejects_bad_input(minute_m2):
         surge.skew_surges_from_turning_points(naive, tp)
     with pytest.raises(DataError, match="kind"):
         surge.skew_surges_from_turning_points(_series(index, _m2(h)), tp.drop(columns="kind"))
+    # one rule for every stage (extremes.timebase.level_series): time order is restored, repeats are refused
     shuffled = _series(index[::-1], _m2(h)[::-1])
-    with pytest.raises(DataError, match="sorted"):
-        surge.skew_surges_from_turning_points(shuffled, tp)
+    pd.testing.assert_frame_equal(surge.skew_surges_from_turning_points(shuffled, tp),
+                                  surge.skew_surges_from_turning_points(_series(index, _m2(h)), tp))
+    repeated = _series(index.append(index[:1]), np.append(_m2(h), 0.0))
+    with pytest.raises(DataError, match="duplicated"):
+        surge.skew_surges_from_turning_points(repeated, tp)
 
 
 # ------------------------------------------------------------------------------------------------------

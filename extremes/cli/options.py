@@ -7,8 +7,9 @@ from pathlib import Path
 
 import click
 
+from extremes.constants import DEFAULT_PERIODS_YEARS, DEFAULT_SEED
+
 UNITS = ("m", "cm", "mm", "ft")
-DEFAULT_PERIODS_YEARS = (1, 2, 5, 10, 20, 50, 100, 200, 500, 1000)
 
 
 def record_argument(func):
@@ -105,7 +106,7 @@ def json_option(func):
 
 def seed_option(func):
     """``--seed N``: seed of every random draw (the default is fixed and recorded)."""
-    return click.option("--seed", type=click.IntRange(min=0), default=20261202, show_default=True,
+    return click.option("--seed", type=click.IntRange(min=0), default=DEFAULT_SEED, show_default=True,
                         help="Seed for resampling; the same seed gives the same numbers.")(func)
 
 

@@ -17,40 +17,25 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
+from extremes.constants import DAYS_PER_YEAR, UNIT_TO_METRES
+from extremes.timebase import level_series, sampling_interval
 from extremes.errors import DataError
 
 logger = logging.getLogger(__name__)
 
-DAYS_PER_YEAR = 365.2425
 #: how a sample of extremes is drawn from a series (the ``--sample`` choices of ``extremes fit``)
 SAMPLE_METHODS = ("annual-maxima", "peaks-over-threshold", "r-largest")
 
 
 def _check_series(series, *, name="level_m"):
-    if not isinstance(series, pd.Series):
-        raise TypeError(f"{name} must be a pandas Series with a UTC DatetimeIndex; got {type(series).__name__}")
-    idx = series.index
-    if not isinstance(idx, pd.DatetimeIndex):
-        raise DataError(f"{name} must have a DatetimeIndex; got {type(idx).__name__}")
-    if idx.tz is None:
-        raise DataError(f"{name} has naive time stamps; expected tz-aware UTC times (localise or convert first)")
-    if str(idx.tz) != "UTC":
-        idx = idx.tz_convert("UTC")
-    values = pd.to_numeric(pd.Series(np.asarray(series, dtype=float), index=idx), errors="coerce")
-    if not idx.is_monotonic_increasing or idx.has_duplicates:
-        values = values[~values.index.duplicated(keep="first")].sort_index()
-        logger.info("%s was not sorted and unique; sorted and dropped duplicate stamps", name)
+    values = level_series(series, name=name)
     if values.notna().sum() == 0:
         raise DataError(f"{name} holds no valid (non-NaN) values")
     return values
 
 
 def _interval(index):
-    d = np.diff(index.as_unit("ns").asi8)
-    d = d[d > 0]
-    if d.size == 0:
-        raise DataError("the series needs at least two time stamps to infer its sampling interval")
-    return pd.Timedelta(int(np.median(d)), unit="ns")
+    return sampling_interval(index)
 
 
 def observed_years(series):
@@ -393,7 +378,7 @@ def r_largest(level_m, *, r=5, min_separation_hours=72.0, min_coverage=0.9, wate
     return RLargest(values, times, int(r), am.dropped, float(min_separation_hours))
 
 
-_UNIT_FACTORS = {"m": 1.0, "cm": 0.01, "mm": 0.001, "ft": 0.3048}
+_UNIT_FACTORS = UNIT_TO_METRES
 
 
 def read_annual_maxima(path, *, units="m", several_per_year="raise"):

@@ -24,6 +24,8 @@ import numpy as np
 import pandas as pd
 
 from extremes.curves import DENSE_PERIODS_YEARS, ReturnLevelCurve
+from extremes.constants import DAYS_PER_YEAR, NODAL_CYCLE_YEARS
+from extremes.timebase import level_series
 from extremes.errors import DataError, ExtremesWarning
 from extremes.joint import engine
 from extremes.joint.clustering import cycle_positions, extremal_index_by_level, theta_function
@@ -35,25 +37,13 @@ logger = logging.getLogger(__name__)
 __all__ = ["skew_surge_joint_probability", "NODAL_CYCLE_YEARS", "DAYS_PER_YEAR"]
 
 #: length of the lunar nodal cycle [years]
-NODAL_CYCLE_YEARS = 18.61
 #: days per (tropical) year used to count tides per year [d]
-DAYS_PER_YEAR = 365.2422
 #: mean length of a semidiurnal tidal cycle (M2 period) [h]
 TIDAL_CYCLE_HOURS = 12.4206
 
 
 def _utc_series(values, name):
-    if not isinstance(values, pd.Series):
-        raise DataError(f"{name} must be a pandas Series indexed by UTC time; got {type(values).__name__}")
-    idx = values.index
-    if not isinstance(idx, pd.DatetimeIndex):
-        raise DataError(f"{name} must have a DatetimeIndex; got {type(idx).__name__}")
-    if idx.tz is None:
-        raise ValueError(f"{name} has naive times; give tz-aware UTC times")
-    out = values.astype(float).sort_index()
-    if out.index.has_duplicates:
-        raise DataError(f"{name} has duplicate times")
-    return out
+    return level_series(values, name=name)
 
 
 def _interaction_dependent(interaction):

@@ -25,6 +25,7 @@ import numpy as np
 import pandas as pd
 
 from extremes.errors import DataError
+from extremes.timebase import utc_index
 
 logger = logging.getLogger(__name__)
 
@@ -42,22 +43,14 @@ RATES_DEG_PER_HOUR = np.array([14.49205211, 0.54901653, 0.04106864, 0.00464183, 
 def to_utc_index(times, *, name: str = "times") -> pd.DatetimeIndex:
     """Return ``times`` as a tz-aware UTC :class:`pandas.DatetimeIndex`; refuse naive times.
 
+    The one rule of :func:`extremes.timebase.utc_index`.
+
     Raises
     ------
     DataError
         If the times carry no time zone or cannot be read as times.
     """
-    if isinstance(times, pd.Series) and not pd.api.types.is_datetime64_any_dtype(times.dtype):
-        times = times.index  # a level series: its index holds the times
-    if isinstance(times, pd.Timestamp):
-        times = [times]
-    try:
-        index = pd.DatetimeIndex(times)
-    except (TypeError, ValueError) as err:
-        raise DataError(f"{name}: expected times (tz-aware UTC), got {type(times).__name__}: {err}") from None
-    if index.tz is None:
-        raise DataError(f"{name}: naive times are refused; expected tz-aware UTC times (localise them first)")
-    return index.tz_convert("UTC")
+    return utc_index(times, name=name)
 
 
 def days_since_epoch(times) -> np.ndarray:

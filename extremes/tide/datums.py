@@ -24,6 +24,7 @@ import numpy as np
 import pandas as pd
 
 from extremes.errors import DataError
+from extremes.constants import DAYS_PER_YEAR, NODAL_CYCLE_YEARS
 from extremes.tide.astronomy import to_utc_index
 from extremes.tide.harmonic import CHUNK, TideModel
 
@@ -31,7 +32,6 @@ logger = logging.getLogger(__name__)
 
 #: constituents left out of datum predictions unless asked for (weather-driven at most gauges)
 RADIATIONAL = ("Sa", "Ssa", "S1")
-NODAL_CYCLE_YEARS = 18.61
 #: mean lunar day [h] (360 / 14.4920521 deg/h)
 LUNAR_DAY_HOURS = 360.0 / 14.49205211
 #: form-factor class bounds (Courtier 1938, as given by Pugh 1987)
@@ -224,7 +224,7 @@ def tidal_datums(model: TideModel, *, start=None, years: float = NODAL_CYCLE_YEA
         raise DataError(f"model: expected a TideModel, got {type(model).__name__}")
     if not years > 0:
         raise DataError(f"years must be > 0; got {years}")
-    span = pd.Timedelta(days=years * 365.2422)
+    span = pd.Timedelta(days=years * DAYS_PER_YEAR)
     if start is None:
         centre = model.reference_time if model.reference_time is not None else pd.Timestamp("2000-01-01", tz="UTC")
         start = pd.Timestamp(centre).tz_convert("UTC") - span / 2

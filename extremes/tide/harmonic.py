@@ -28,6 +28,8 @@ import scipy.linalg.blas
 
 from extremes.errors import DataError, ExtremesWarning, FitError
 from extremes.outputs import write_text_atomic
+from extremes.constants import DAYS_PER_YEAR
+from extremes.timebase import level_series
 from extremes.tide.astronomy import days_since_epoch, doodson_variables_days, to_utc_index
 from extremes.tide.constituents import (DEFAULT_INFERRED, EQUILIBRIUM_INFERENCE, doodson_matrix,
                                        get_constituent, select_constituents)
@@ -241,7 +243,7 @@ def predict_tide(times, names, amplitudes_m, phases_deg, *, z0_m: float = 0.0) -
 # --------------------------------------------------------------------------------------------------------
 # analysis
 _EPOCH_DAYS = np.datetime64("1899-12-31T12:00:00", "ns")
-_DAYS_PER_YEAR = 365.25
+_DAYS_PER_YEAR = DAYS_PER_YEAR
 #: half-width of the frequency band around each species used for the residual spectrum [cycles/day]
 BAND_HALF_WIDTH_CPD = 0.2
 SNR_THRESHOLD = 2.0
@@ -488,24 +490,8 @@ def _years_since(index: pd.DatetimeIndex, reference) -> np.ndarray:
 
 
 def _check_series(level_m) -> pd.Series:
-    if not isinstance(level_m, pd.Series):
-        raise DataError(f"level_m: expected a pandas Series of levels indexed by UTC times, got "
-                        f"{type(level_m).__name__}")
-    if not isinstance(level_m.index, pd.DatetimeIndex):
-        raise DataError(f"level_m: expected a DatetimeIndex, got {type(level_m.index).__name__}")
-    if level_m.index.tz is None:
-        raise DataError("level_m: naive time index refused; expected tz-aware UTC times")
-    try:
-        values = pd.to_numeric(level_m, errors="raise").astype(float)
-    except (TypeError, ValueError) as err:
-        raise DataError(f"level_m: expected numeric levels [m]; {err}") from None
-    values = values[np.isfinite(values.to_numpy())]
-    if not values.index.is_monotonic_increasing:
-        values = values.sort_index()
-    if values.index.has_duplicates:
-        n = int(values.index.duplicated().sum())
-        raise DataError(f"level_m: {n} duplicated time stamps; expected unique times (run quality checks)")
-    return values
+    values = level_series(level_m, name="level_m")
+    return values[np.isfinite(values.to_numpy())]
 
 
 def _resolve_inference(infer, fitted: list[str], candidates_ok) -> dict[str, tuple[str, float, float]]:
