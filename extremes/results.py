@@ -13,6 +13,8 @@ folder atomically:
     tables/peaks.csv              the declustered peaks used, when available
     tables/skew_surges.csv        one skew surge per tidal cycle
     tables/sea_level_rise.csv     recommended levels raised by each offset
+    tables/sea_level_rise_by_offset.csv  per offset: raised 100-year level, its present return period,
+                                  encounter probability over the design life, design level
     tables/quality_flags.csv      counts of each flag
     models/tide_model.json        the saved tide model (predicts at any time)
     models/curves.json            every method's return-level curve (what ``extremes rerun`` reuses)
@@ -42,37 +44,69 @@ SCHEMA = "extremes.results/1"
 __all__ = ["SCHEMA", "StudyResult", "write_study", "load_results", "curves_from_results"]
 
 
+def _from_tide(name: str, doc: str):
+    """A read-only attribute of the study's tide stage, under the study's own name."""
+    return property(lambda self: getattr(self.tide, name), doc=doc)
+
+
 @dataclass(frozen=True, eq=False, repr=False)
 class StudyResult:
-    """Everything one study found. Levels in metres above ``record.datum`` at ``epoch_year``."""
+    """Everything one study found. Levels in metres above ``record.datum`` at ``epoch_year``.
+
+    Attributes
+    ----------
+    software, source, sha256, options
+        Provenance: the software and its version, the record's path and SHA-256, every option.
+    record : GaugeRecord
+        The record as read.
+    tide : TideStage
+        The tide stage (:func:`extremes.tide.stage.analyse_record_tide`): quality report after residual
+        spikes, mean sea level and epoch, harmonic model, datums, residual, skew surges, interaction tests.
+    curves : dict of ReturnLevelCurve
+        Every method's return-level curve. [m]
+    method_details : dict
+        Every method's fit (DirectFit, JointProbabilityResult).
+    comparison : MethodComparison
+        The comparison of methods and the recommendation.
+    sea_level_rise : SeaLevelRiseAssessment
+        The sea-level-rise stage on the recommended curve.
+    cautions, notes, warnings : tuple of str
+    timings_s : dict
+        Seconds spent in each stage. [s]
+    record_years : float
+        Valid data after quality control. [years]
+    """
 
     software: dict
     source: str
     sha256: str
     options: dict
     record: object
-    quality: object
-    annual_msl: pd.DataFrame
-    msl_trend: object
-    epoch_year: float
-    level_epoch_m: pd.Series
-    tide_model: object
-    datums: object
-    form_factor: float
-    tide_type: str
-    residual_m: pd.Series
-    skew_surges: pd.DataFrame
-    high_waters: pd.DataFrame
-    interaction: object
+    tide: object
     curves: dict
     method_details: dict
     comparison: object
-    sea_level_rise: dict
+    sea_level_rise: object
     cautions: tuple
     notes: tuple = ()
     warnings: tuple = ()
     timings_s: dict = field(default_factory=dict)
     record_years: float = float("nan")
+
+    quality = _from_tide("quality", "Quality report of the record (spikes re-detected on the residual).")
+    annual_msl = _from_tide("annual_msl", "Annual mean sea level. [m]")
+    msl_trend = _from_tide("msl_trend", "Linear trend of annual mean sea level, or None.")
+    epoch_year = _from_tide("epoch_year", "Mean-sea-level epoch of every level. [decimal year]")
+    level_epoch_m = _from_tide("level_epoch_m", "Observed level moved to the epoch. [m]")
+    tide_model = _from_tide("tide_model", "The harmonic tide model.")
+    datums = _from_tide("datums", "Tidal datums.")
+    form_factor = _from_tide("form_factor", "Form factor (K1 + O1) / (M2 + S2).")
+    tide_type = _from_tide("tide_type", "Tide type from the form factor.")
+    residual_m = _from_tide("residual_m", "Non-tidal residual at the epoch. [m]")
+    skew_surges = _from_tide("skew_surges", "Skew surges of the record.")
+    high_waters = _from_tide("high_waters", "Predicted high waters of a nodal cycle at the epoch.")
+    interaction = _from_tide("interaction", "Tide-surge interaction tests.")
+    msl_at_epoch_m = _from_tide("msl_at_epoch_m", "Mean sea level at the epoch. [m]")
 
     def __repr__(self) -> str:
         return (f"StudyResult(source={Path(self.source).name!r}, epoch={self.epoch_year:.2f}, "
@@ -88,13 +122,6 @@ class StudyResult:
         """The method whose levels are recommended."""
         return self.comparison.recommended_method
 
-    @property
-    def msl_at_epoch_m(self) -> float:
-        """Mean sea level at the epoch on the fitted trend (the record mean when no trend). [m]"""
-        if self.msl_trend is not None:
-            return float(self.msl_trend.msl_at(self.epoch_year))
-        return float(np.nanmean(self.level_epoch_m.to_numpy()))
-
     def return_level_table(self, periods_years=None) -> pd.DataFrame:
         """All methods at ``periods_years`` (default: the study's), one row per method and period."""
         periods = self.options["study"]["periods_years"] if periods_years is None else periods_years
@@ -102,49 +129,17 @@ class StudyResult:
 
     def to_dict(self) -> dict:
         """The ``results.json`` document (strict JSON types)."""
-        trend = self.msl_trend
-        tide = {
-            "constituents": [c.to_dict() for c in self.tide_model.constituents],
-            "datums_m": self.datums.datums_m,
-            "form_factor": self.form_factor,
-            "tide_type": self.tide_type,
-            "z0_m": self.tide_model.z0_m,
-            "residual_std_m": self.tide_model.residual_std_m,
-            "n_constituents": len(self.tide_model.constituents),
-            "phase_convention": "Greenwich phase lag relative to the equilibrium argument, times in UTC",
-        }
-        msl = {
-            "trend_m_per_year": None if trend is None else trend.trend_m_per_year,
-            "trend_se_m_per_year": None if trend is None else trend.trend_se_m_per_year,
-            "epoch_year": self.epoch_year,
-            "msl_at_epoch_m": self.msl_at_epoch_m,
-            "msl_at_epoch_se_m": None if trend is None else trend.msl_at_se(self.epoch_year),
-            "trend": None if trend is None else trend.to_dict(),
-            "annual_means": self.annual_msl,
-        }
-        slr = self.sea_level_rise
         document = {
             "schema": SCHEMA,
             "software": self.software,
             "inputs": {"record": self.source, "sha256": self.sha256, "options": self.options},
             "record": self.quality.to_dict(),
-            "tide": tide,
-            "mean_sea_level": msl,
+            "tide": self.tide.tide_dict(),
+            "mean_sea_level": self.tide.mean_sea_level_dict(),
             "return_levels": self.return_level_table(),
             "recommended_method": self.recommended_method,
             "recommendation": {"method": self.recommended_method, "reason": self.comparison.reason},
-            "sea_level_rise": slr["rows"],
-            "sea_level_rise_details": {
-                "method": slr["method"],
-                "level_100_m": slr["level_100_m"],
-                "design_life_years": slr["design_life_years"],
-                "accepted_risk": slr["accepted_risk"],
-                "amplification": slr["amplification"],
-                "encounter": slr["encounter"],
-                "design_levels": slr["design_levels"],
-                "scenarios": slr["scenario_results"],
-                "allowance": slr.get("allowance"),
-            },
+            **self.sea_level_rise.to_dict(),
             "interaction": self.interaction,
             "methods": {name: _detail_dict(detail) for name, detail in self.method_details.items()},
             "curves": {name: curve.to_dict() for name, curve in self.curves.items()},
@@ -192,7 +187,8 @@ def study_tables(result: StudyResult) -> dict[str, pd.DataFrame]:
         "annual_mean_sea_level": result.annual_msl.reset_index() if result.annual_msl.index.name
         else result.annual_msl,
         "skew_surges": result.skew_surges,
-        "sea_level_rise": pd.DataFrame(result.sea_level_rise["rows"]),
+        "sea_level_rise": pd.DataFrame(result.sea_level_rise.rows),
+        "sea_level_rise_by_offset": pd.DataFrame(result.sea_level_rise.by_offset),
         "quality_flags": pd.DataFrame({"flag": list(result.quality.counts),
                                        "rows": list(result.quality.counts.values())}),
     }

@@ -31,7 +31,7 @@ def test_direct_annual_maxima_matches_evd_port_pirie(tests_data):
     data = pd.read_csv(tests_data / "portpirie.csv")
     level = _series_with_annual_maxima(data["annual_max_m"].to_numpy(), data["year"].to_numpy())
     curve = direct_annual_maxima(level, periods_years=np.geomspace(1.01, 1000, 60),
-                                 profile_periods_years=(1.01, 2, 10, 100, 1000))
+                                 profile_periods_years=(1.01, 2, 10, 100, 1000)).curve
     assert curve.method == "annual-maxima" and curve.period_definition == "1/AEP"
     for t in ("10", "100"):
         assert curve.level_at([float(t)])[0] == pytest.approx(ref[t]["estimate"], abs=2e-3)
@@ -49,7 +49,7 @@ def test_direct_peaks_over_threshold_is_rate_based_and_increasing():
         warnings.simplefilter("ignore", ExtremesWarning)
         curve = direct_peaks_over_threshold(level, threshold_m=float(np.quantile(level, 0.999)),
                                             periods_years=np.geomspace(1.01, 1000, 40),
-                                            profile_periods_years=(1.01, 10, 100, 1000))
+                                            profile_periods_years=(1.01, 10, 100, 1000)).curve
     assert curve.period_definition == "1/rate" and curve.method == "peaks-over-threshold"
     lv = curve.level_at([10, 100, 1000])
     assert np.all(np.diff(lv) > 0)

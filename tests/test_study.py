@@ -140,32 +140,6 @@ def test_run_refuses_bad_record_with_one_line(tmp_path):
     assert not (tmp_path / "o").exists()
 
 
-def test_scenarios_give_encounter_design_level_and_allowance(tmp_path):
-    # a Gumbel annual-maximum curve (loc 2.0 m, scale 0.2 m; Coles 2001 eq. 3.10) and a low/central/high
-    # scenario table; the allowance must follow Hunter (2012), A = m + s^2/(2 lambda) (formula from memory,
-    # METHODS.md sec. 11), with lambda the Gumbel scale 0.2 m
-    from extremes import sealevel
-    from extremes.curves import DENSE_PERIODS_YEARS, ReturnLevelCurve
-    from extremes.study import _sea_level_rise
-    from extremes.study_options import StudyOptions
-
-    level = 2.0 - 0.2 * np.log(-np.log1p(-1.0 / DENSE_PERIODS_YEARS))
-    curve = ReturnLevelCurve(method="annual-maxima", periods_years=DENSE_PERIODS_YEARS, level_m=level,
-                             lower_m=None, upper_m=None, period_definition="1/AEP", epoch_year=2020.0)
-    table = tmp_path / "rise.csv"
-    table.write_text("year,low,central,high\n2020,0,0,0\n2100,0.3,0.6,1.2\n")
-    options = StudyOptions(slr_scenarios=str(table), design_life_years=50, slr_m=(0.0, 0.5))
-    slr = _sea_level_rise(sealevel, curve, options, 2020.0)
-    assert [s["scenario"] for s in slr["scenario_results"]] == ["low", "central", "high"]
-    allowance = slr["allowance"]["allowance"]
-    mean, sd = allowance.mean_rise_m, allowance.sd_rise_m
-    assert mean == pytest.approx(0.6 * 49.5 / 80, abs=0.01)  # central rise by the mid-point of the last year
-    assert allowance.scale_m == pytest.approx(0.2, rel=0.02)
-    assert allowance.allowance_m == pytest.approx(mean + sd ** 2 / (2 * allowance.scale_m), rel=1e-6)
-    # encounter probability of the 100-year level over 50 years without rise: 1 - 0.99^50 = 0.395 (METHODS [C])
-    assert slr["encounter"][0].probability == pytest.approx(0.395, abs=0.003)
-
-
 def test_short_record_gets_no_annual_maxima_fit(tmp_path):
     # three years of the invented harbour's process: a three-parameter GEV on three annual maxima is
     # meaningless, so annual maxima and r-largest are left out with a note, and a direct method using every

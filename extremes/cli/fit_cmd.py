@@ -3,7 +3,6 @@ from __future__ import annotations
 
 import json
 import logging
-import math
 import warnings
 
 import click
@@ -53,96 +52,26 @@ def command(file, model, method, ci, n_bootstrap, confidence, sample, threshold,
 
     Example:  extremes fit annual_maxima.csv --ci profile --periods 10,100 --json
     """
-    from extremes import extremal  # imported here so that --help starts fast
+    from extremes.extremal import sample_fit  # imported here so that --help starts fast
 
-    if ci is None:
-        ci = "profile" if method == "mle" else "bootstrap"
-    if ci == "profile" and method != "mle":
-        raise click.BadParameter("profile intervals need --method mle; use --ci bootstrap or delta",
-                                 param_hint="--ci")
-    if sample == "r-largest" and model == "gumbel":
-        raise click.BadParameter("r-largest fits the GEV only; use --model gev", param_hint="--model")
-    if sample == "r-largest" and method != "mle":
-        raise click.BadParameter("r-largest fits use maximum likelihood only; use --method mle",
-                                 param_hint="--method")
+    ci = sample_fit.default_ci(method) if ci is None else ci
+    problem = sample_fit.invalid_choice(sample=sample, model=model, method=method, ci=ci)
+    if problem is not None:
+        raise click.BadParameter(problem[1], param_hint=f"--{problem[0]}")
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
-        if sample == "annual-maxima":
-            data = extremal.read_annual_maxima(file, units=reader["units"], several_per_year="none")
-            if data is None:  # several rows per year: a time series
-                data = extremal.annual_maxima(_series(file, reader), min_coverage=min_coverage,
-                                              water_year_start_month=water_year_start)
-                info = {"years_dropped": [{"year": int(r.year), "reason": r.reason}
-                                          for r in data.dropped.itertuples()]}
-            else:
-                info = {}
-            fit = (extremal.fit_gev if model == "gev" else extremal.fit_gumbel)(data, method=method)
-        elif sample == "r-largest":
-            series = _series(file, reader)
-            data = extremal.r_largest(series, r=r, min_separation_hours=min_separation_hours,
-                                      min_coverage=min_coverage, water_year_start_month=water_year_start)
-            info = {"years": len(data.values), "r": r, "min_separation_hours": min_separation_hours}
-            fit = extremal.fit_gev_rlargest(data)
-        else:
-            series = _series(file, reader)
-            info = {"min_separation_hours": min_separation_hours}
-            if threshold is None:
-                choice = extremal.select_threshold(series, min_separation_hours=min_separation_hours)
-                threshold = choice.threshold_m
-                info["threshold_rule"] = choice.rule
-            peaks = extremal.peaks_over_threshold(series, threshold=threshold,
-                                                  min_separation_hours=min_separation_hours)
-            fitter = extremal.fit_gpd if model == "gev" else extremal.fit_exponential
-            fit = fitter(peaks, method=method)
-            info.update({"threshold_m": fit.threshold, "rate_per_year": fit.rate_per_year,
-                         "observed_years": fit.years})
-        table = extremal.return_levels(fit, periods, ci=ci, confidence=confidence, n_bootstrap=n_bootstrap,
-                                       seed=seed)
+        data = sample_fit.read_fit_input(file, sample=sample, reader=reader)
+        result = sample_fit.fit_sample(data, sample=sample, model=model, method=method, ci=ci,
+                                       periods_years=periods, confidence=confidence, n_bootstrap=n_bootstrap,
+                                       seed=seed, threshold_m=threshold, min_separation_hours=min_separation_hours,
+                                       r=r, min_coverage=min_coverage, water_year_start_month=water_year_start)
     for w in caught:
         logger.warning("%s", w.message)
-    out = _result(fit, table, sample=sample, ci=ci, seed=seed, info=info)
+    out = result.to_dict()
     if as_json:
         click.echo(json.dumps(out, allow_nan=False))
     else:
         click.echo(_summary(out))
-
-
-def _series(file, reader):
-    """Read FILE as a gauge record and quality-control it: the clean level series [m]."""
-    from extremes import quality, records
-
-    return quality.check_record(records.read_record(file, **reader)).level_m
-
-
-def _num(v):
-    if v is None:
-        return None
-    v = float(v)
-    return v if math.isfinite(v) else None
-
-
-def _result(fit, table, *, sample, ci, seed, info):
-    d = fit.to_dict()
-    if sample == "peaks-over-threshold":
-        se = d["standard_errors"]
-        out = {"model": d["model"], "method": d["method"], "n": d["n"],
-               "parameters": {"location": _num(fit.threshold), "scale": _num(fit.scale), "shape": _num(fit.shape)},
-               "standard_errors": {"location": None, "scale": se["scale"], "shape": se["shape"]},
-               "log_likelihood": _num(fit.log_likelihood), "rate_per_year": _num(fit.rate_per_year),
-               "rate_per_year_se": se["rate_per_year"]}
-    else:
-        out = {k: d[k] for k in ("model", "method", "n", "parameters", "standard_errors", "log_likelihood")}
-    out["sample"] = sample
-    out["ci"] = ci
-    out["period_kind"] = table.attrs.get("period_kind")
-    if ci == "bootstrap":
-        out["seed"] = seed
-    out["details"] = {k: (_num(v) if isinstance(v, float) else v) for k, v in info.items()}
-    out["return_levels"] = [
-        {"return_period_years": _num(row.return_period_years), "level_m": _num(row.level_m),
-         "lower_m": _num(row.lower_m), "upper_m": _num(row.upper_m), "confidence": _num(row.confidence)}
-        for row in table.itertuples()]
-    return out
 
 
 def _fmt(v, spec=".4f"):

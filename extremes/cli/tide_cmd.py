@@ -26,64 +26,16 @@ def _names_callback(ctx, param, value):
         raise click.BadParameter(str(err)) from None
 
 
-def analyse_record(level_m, report, *, constituents="auto", rayleigh=1.0, infer=True,
-                   include_radiational=False, epoch_year=None):
-    """Analysis behind the command (library calls only): model, QC report, datums, MSL, residual."""
-    from extremes import surge
-    from extremes.errors import ExtremesError
-    from extremes.tide import datums as tide_datums
-    from extremes.tide.harmonic import analyse_tide
-
-    model = analyse_tide(level_m, constituents=constituents, rayleigh=rayleigh, infer=infer)
-    residual = surge.non_tidal_residual(level_m, model)
-    checked = report.with_residual_spikes(residual)
-    n_before = int(report.counts.get("spike", 0))
-    n_after = int(checked.counts.get("spike", 0))
-    if n_after > n_before:
-        logger.info("%d more spikes found on the de-tided residual; analysing again", n_after - n_before)
-        level_m = checked.level_m
-        model = analyse_tide(level_m, constituents=constituents, rayleigh=rayleigh, infer=infer)
-        residual = surge.non_tidal_residual(level_m, model)
-    datums = tide_datums.tidal_datums(model, include_radiational=include_radiational)
-    factor = tide_datums.form_factor(model)
-    msl = {"trend_m_per_year": None, "trend_se_m_per_year": None, "epoch_year": None, "msl_at_epoch_m": None}
-    trend = None
-    try:
-        annual = surge.annual_mean_sea_level(level_m)
-        trend = surge.msl_trend(annual)
-        epoch = float(trend.reference_year if epoch_year is None else epoch_year)
-        msl.update(trend_m_per_year=trend.trend_m_per_year, trend_se_m_per_year=trend.trend_se_m_per_year,
-                   epoch_year=epoch, msl_at_epoch_m=float(trend.msl_at(epoch)), n_years=trend.n_years)
-    except ExtremesError as err:
-        logger.warning("no mean-sea-level trend: %s", err)
-        msl["note"] = str(err)
-    tide = {
-        "constituents": [c.to_dict() for c in model.constituents],
-        "datums_m": datums.datums_m,
-        "form_factor": factor,
-        "tide_type": tide_datums.tide_type(factor),
-        "z0_m": model.z0_m, "datum": model.datum, "start": model.start, "end": model.end,
-        "n_samples": model.n_samples, "residual_std_m": model.residual_std_m,
-        "condition_number": model.condition_number, "rayleigh": model.rayleigh,
-        "inferred": {k: {"reference": v[0], "amplitude_ratio": v[1], "phase_difference_deg": v[2]}
-                     for k, v in model.inference.items()},
-        "datums_window": {"start": datums.start, "end": datums.end, "step_minutes": datums.step_minutes,
-                          "include_radiational": datums.include_radiational},
-        "spikes_on_residual": n_after,
-    }
-    return {"tide": tide, "mean_sea_level": msl}, model, level_m, residual
-
-
 def _summary(result) -> str:
     tide, msl = result["tide"], result["mean_sea_level"]
     lines = [f"Harmonic analysis: {tide['n_samples']} samples, {tide['start']} to {tide['end']} (UTC), "
-             f"datum {tide['datum']}",
+             f"datum {tide['datum']}, levels at the mean-sea-level epoch {msl['epoch_year']:.2f}",
              f"Z0 {tide['z0_m']:.3f} m, residual std {tide['residual_std_m']:.3f} m, "
              f"condition number {tide['condition_number']:.2f}",
              "",
              f"{'name':<8}{'speed deg/h':>13}{'H m':>9}{'+-':>8}{'G deg':>9}{'+-':>8}  note"]
     for c in sorted(tide["constituents"], key=lambda c: -c["amplitude_m"]):
-        note = "inferred" if c["inferred"] else ("SNR<2" if not c["snr"] >= 2 else "")
+        note = "inferred" if c["inferred"] else ("weak: H < 2 s.e." if c["weak"] else "")
         lines.append(f"{c['name']:<8}{c['speed_deg_per_hour']:>13.7f}{c['amplitude_m']:>9.4f}"
                      f"{c['amplitude_se_m']:>8.4f}{c['phase_deg']:>9.2f}{c['phase_se_deg']:>8.2f}  {note}")
     lines += ["", "Tidal datums [m] (" + ("with" if tide["datums_window"]["include_radiational"] else "without")
@@ -108,7 +60,7 @@ def _summary(result) -> str:
 @click.option("--no-infer", is_flag=True, help="Do not infer P1 and K2 when the record does not resolve them.")
 @click.option("--include-radiational", is_flag=True, help="Keep Sa, Ssa and S1 in the HAT/LAT prediction.")
 @click.option("--epoch", "epoch_year", type=float, metavar="YEAR",
-              help="Decimal year at which MSL is stated; default the mean time of the annual means.")
+              help="Mean-sea-level epoch of the levels [decimal year]; default the end of the record.")
 @options.json_option
 @click.option("--out", "out_dir", type=click.Path(file_okay=False, path_type=Path), metavar="DIR",
               help="Write residuals.csv, skew_surges.csv, tide_model.json and tide.json into DIR.")
@@ -120,32 +72,30 @@ def command(record, reader, constituents, rayleigh, no_infer, include_radiationa
 
     Example:  extremes tide gauge.csv --utc-offset +10:00 --datum CD --json
     """
-    from extremes import outputs, quality, records, surge
+    from extremes import outputs, quality, records
     from extremes.jsonable import to_jsonable
+    from extremes.tide.stage import analyse_record_tide
 
     if out_dir is not None:
         outputs.check_output_folder(out_dir, overwrite=overwrite)
-    gauge = records.read_record(record, **reader)
-    report = quality.check_record(gauge)
-    result, model, level_m, residual = analyse_record(
-        report.level_m, report, constituents=constituents, rayleigh=rayleigh, infer=not no_infer,
-        include_radiational=include_radiational, epoch_year=epoch_year)
-    payload = to_jsonable(result)
+    report = quality.check_record(records.read_record(record, **reader))
+    stage = analyse_record_tide(report, epoch_year=epoch_year, constituents=constituents, rayleigh=rayleigh,
+                                infer=not no_infer, include_radiational=include_radiational)
+    payload = to_jsonable(stage.to_dict())
     if out_dir is not None:
-        skew = surge.skew_surges(level_m, model)
-        predicted = model.predict(level_m.index)
+        level_m, model = stage.level_epoch_m, stage.tide_model
         table = level_m.rename("level_m").to_frame()
-        table["tide_m"] = predicted.to_numpy()
-        table["residual_m"] = residual.reindex(level_m.index).to_numpy()
+        table["tide_m"] = model.predict(level_m.index).to_numpy()
+        table["residual_m"] = stage.residual_m.reindex(level_m.index).to_numpy()
         with outputs.output_folder(out_dir, overwrite=overwrite) as work:
             table.to_csv(work / "residuals.csv", index_label="time", date_format="%Y-%m-%dT%H:%M:%SZ",
                          float_format="%.4f")
-            skew.to_csv(work / "skew_surges.csv", index=False, date_format="%Y-%m-%dT%H:%M:%SZ",
-                        float_format="%.4f")
+            stage.skew_surges.to_csv(work / "skew_surges.csv", index=False, date_format="%Y-%m-%dT%H:%M:%SZ",
+                                     float_format="%.4f")
             model.save(work / "tide_model.json")
             (work / "tide.json").write_text(json.dumps(payload, indent=2, allow_nan=False) + "\n",
                                             encoding="utf-8")
     if as_json:
         click.echo(json.dumps(payload, indent=2, allow_nan=False))
     else:
-        click.echo(_summary(result))
+        click.echo(_summary(payload))

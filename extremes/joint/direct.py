@@ -13,14 +13,16 @@ References
 from __future__ import annotations
 
 import logging
+from dataclasses import dataclass
 
 import numpy as np
+import pandas as pd
 
 from extremes.curves import DENSE_PERIODS_YEARS, ReturnLevelCurve
 
 logger = logging.getLogger(__name__)
 
-__all__ = ["direct_annual_maxima", "direct_peaks_over_threshold", "direct_r_largest", "PROFILE_PERIODS_YEARS"]
+__all__ = ["DirectFit", "direct_annual_maxima", "direct_peaks_over_threshold", "direct_r_largest", "PROFILE_PERIODS_YEARS"]
 
 #: periods at which profile-likelihood intervals are computed before interpolation [years]
 PROFILE_PERIODS_YEARS = (1.001, 1.01, 1.1, 1.5, 2, 3, 5, 10, 20, 50, 100, 200, 500, 1000, 2000, 5000, 10_000)
@@ -53,9 +55,87 @@ def _coarse(periods_years, profile_periods_years):
                                      [dense.min(), dense.max()]]))
 
 
+@dataclass(frozen=True, eq=False, repr=False)
+class DirectFit:
+    """A direct method's sample, fit and return-level curve (the study keeps it for the report).
+
+    Attributes
+    ----------
+    method : str
+        ``annual-maxima``, ``peaks-over-threshold`` or ``r-largest``.
+    curve : ReturnLevelCurve
+        Levels and intervals on the dense period grid. [m]
+    result : SampleFit
+        The sample, fit and coarse return-level table of :func:`extremes.extremal.sample_fit.fit_sample`.
+    notes : tuple of str
+    """
+
+    method: str
+    curve: ReturnLevelCurve
+    result: object
+    notes: tuple = ()
+
+    def __repr__(self) -> str:
+        return f"DirectFit(method={self.method!r}, n={self.fit.n})"
+
+    @property
+    def fit(self):
+        """The fitted distribution (GEVFit or GPDFit)."""
+        return self.result.fit
+
+    @property
+    def sample(self) -> pd.Series:
+        """The values fitted (annual maxima by year, peaks by time, r-largest flattened) [m]."""
+        return self.result.values
+
+    def cdf(self, x):
+        """Distribution function of one sample value (GEV of annual maxima; GPD of peaks above threshold)."""
+        from extremes.extremal import distributions
+
+        f = self.fit
+        if self.method in ("annual-maxima", "r-largest"):
+            return distributions.gev_cdf(x, loc=f.loc, scale=f.scale, shape=f.shape)
+        return 1.0 - distributions.gpd_exceedance_rate(x, threshold=f.threshold, scale=f.scale, shape=f.shape,
+                                                       rate_per_year=1.0)
+
+    def quantile(self, p):
+        """Inverse of :meth:`cdf`."""
+        from extremes.extremal import distributions
+
+        f = self.fit
+        p = np.asarray(p, dtype=float)
+        if self.method in ("annual-maxima", "r-largest"):
+            return distributions.gev_quantile(p, loc=f.loc, scale=f.scale, shape=f.shape)
+        # GPD above the threshold: x = u + sigma/xi [(1 - p)^-xi - 1] (Coles 2001, ch. 4); xi -> 0: exponential
+        if abs(f.shape) < 1e-9:
+            return f.threshold - f.scale * np.log1p(-p)
+        return f.threshold + f.scale / f.shape * ((1.0 - p) ** (-f.shape) - 1.0)
+
+    def to_dict(self) -> dict:
+        return {"method": self.method, "n": int(self.fit.n), "fit": self.fit,
+                "interval_method": self.curve.interval_method, "details": self.result.details,
+                "notes": list(self.notes)}
+
+
+def _direct(method, level_m_at_epoch, *, ci, confidence, periods_years, profile_periods_years, datum,
+            epoch_year, describe, **sample_options):
+    from extremes.extremal.sample_fit import fit_sample
+
+    result = fit_sample(level_m_at_epoch, sample=method, method="mle", ci=ci, confidence=confidence,
+                        periods_years=_coarse(periods_years, profile_periods_years), **sample_options)
+    notes = describe(result) + [f"{ci} intervals at {len(result.return_levels)} periods, interpolated in log "
+                                "period"]
+    interval = "profile likelihood" if ci == "profile" else ci
+    curve = _curve(method, result.return_levels, periods_years=periods_years, confidence=confidence,
+                   definition=result.period_definition, datum=datum, epoch_year=epoch_year, interval=interval,
+                   notes=notes)
+    return DirectFit(method=method, curve=curve, result=result, notes=tuple(notes))
+
+
 def direct_annual_maxima(level_m_at_epoch, *, min_coverage=0.9, water_year_start_month=1, ci="profile",
                          confidence=0.95, periods_years=DENSE_PERIODS_YEARS,
-                         profile_periods_years=PROFILE_PERIODS_YEARS, datum="unspecified", epoch_year=None):
+                         profile_periods_years=PROFILE_PERIODS_YEARS, datum="unspecified",
+                         epoch_year=None) -> DirectFit:
     """GEV fit (maximum likelihood) of annual maxima of the total level, as a curve (``1/AEP``).
 
     Parameters
@@ -75,28 +155,23 @@ def direct_annual_maxima(level_m_at_epoch, *, min_coverage=0.9, water_year_start
 
     Returns
     -------
-    ReturnLevelCurve
-        ``method="annual-maxima"``.
+    DirectFit
+        ``method="annual-maxima"``; its ``curve`` is the return-level curve.
     """
-    from extremes.extremal import distributions, samples, uncertainty
+    def describe(r):
+        f = r.fit
+        return [f"GEV (maximum likelihood) of {f.n} annual maxima: location {f.loc:.3f} m, scale "
+                f"{f.scale:.3f} m, shape {f.shape:.3f}"]
 
-    am = samples.annual_maxima(level_m_at_epoch, min_coverage=min_coverage,
-                               water_year_start_month=water_year_start_month)
-    fit = distributions.fit_gev(am.maxima, method="mle")
-    table = uncertainty.return_levels(fit, _coarse(periods_years, profile_periods_years), ci=ci,
-                                      confidence=confidence)
-    notes = [f"GEV (maximum likelihood) of {fit.n} annual maxima: location {fit.loc:.3f} m, scale "
-             f"{fit.scale:.3f} m, shape {fit.shape:.3f}",
-             f"{ci} intervals at {len(table)} periods, interpolated in log period"]
-    return _curve("annual-maxima", table, periods_years=periods_years, confidence=confidence,
-                  definition="1/AEP", datum=datum, epoch_year=epoch_year, interval=f"{ci} likelihood"
-                  if ci == "profile" else ci, notes=notes)
+    return _direct("annual-maxima", level_m_at_epoch, ci=ci, confidence=confidence, periods_years=periods_years,
+                   profile_periods_years=profile_periods_years, datum=datum, epoch_year=epoch_year,
+                   describe=describe, min_coverage=min_coverage, water_year_start_month=water_year_start_month)
 
 
 def direct_peaks_over_threshold(level_m_at_epoch, *, threshold_m=None, min_separation_hours=72.0, ci="profile",
                                 confidence=0.95, periods_years=DENSE_PERIODS_YEARS,
                                 profile_periods_years=PROFILE_PERIODS_YEARS, datum="unspecified",
-                                epoch_year=None):
+                                epoch_year=None) -> DirectFit:
     """GPD fit of declustered peaks of the total level over a threshold, as a curve (``1/rate``).
 
     Parameters
@@ -112,49 +187,39 @@ def direct_peaks_over_threshold(level_m_at_epoch, *, threshold_m=None, min_separ
 
     Returns
     -------
-    ReturnLevelCurve
-        ``method="peaks-over-threshold"``; NaN at periods shorter than one event (rate x T <= 1).
+    DirectFit
+        ``method="peaks-over-threshold"``; its curve is NaN at periods shorter than one event (rate x T <= 1).
     """
-    from extremes.extremal import distributions, samples, threshold, uncertainty
+    def describe(r):
+        f, rule = r.fit, r.details.get("threshold_rule")
+        chosen = [f"threshold {f.threshold:.3f} m by the automatic rule: {rule}"] if rule else []
+        return chosen + [f"GPD (maximum likelihood) of {f.n} peaks ({f.rate_per_year:.2f}/yr, "
+                         f"{min_separation_hours:g} h apart): scale {f.scale:.3f} m, shape {f.shape:.3f}"]
 
-    notes = []
-    if threshold_m is None:
-        choice = threshold.select_threshold(level_m_at_epoch, min_separation_hours=min_separation_hours)
-        threshold_m = choice.threshold_m
-        notes.append(f"threshold {threshold_m:.3f} m by the automatic rule: {choice.rule}")
-    peaks = samples.peaks_over_threshold(level_m_at_epoch, threshold=float(threshold_m),
-                                         min_separation_hours=min_separation_hours)
-    fit = distributions.fit_gpd(peaks, method="mle")
-    table = uncertainty.return_levels(fit, _coarse(periods_years, profile_periods_years), ci=ci,
-                                      confidence=confidence)
-    notes += [f"GPD (maximum likelihood) of {fit.n} peaks ({fit.rate_per_year:.2f}/yr, {min_separation_hours:g} h "
-              f"apart): scale {fit.scale:.3f} m, shape {fit.shape:.3f}",
-              f"{ci} intervals at {len(table)} periods, interpolated in log period"]
-    return _curve("peaks-over-threshold", table, periods_years=periods_years, confidence=confidence,
-                  definition="1/rate", datum=datum, epoch_year=epoch_year, interval=ci, notes=notes)
+    return _direct("peaks-over-threshold", level_m_at_epoch, ci=ci, confidence=confidence,
+                   periods_years=periods_years, profile_periods_years=profile_periods_years, datum=datum,
+                   epoch_year=epoch_year, describe=describe, threshold_m=threshold_m,
+                   min_separation_hours=min_separation_hours)
 
 
 def direct_r_largest(level_m_at_epoch, *, r=5, min_separation_hours=72.0, min_coverage=0.9, ci="profile",
                      confidence=0.95, periods_years=DENSE_PERIODS_YEARS,
-                     profile_periods_years=PROFILE_PERIODS_YEARS, datum="unspecified", epoch_year=None):
+                     profile_periods_years=PROFILE_PERIODS_YEARS, datum="unspecified",
+                     epoch_year=None) -> DirectFit:
     """Annual-maximum GEV fitted to the r largest independent events per year, as a curve (``1/AEP``).
 
     Parameters are those of :func:`direct_annual_maxima` plus ``r`` and ``min_separation_hours`` [h].
 
     Returns
     -------
-    ReturnLevelCurve
+    DirectFit
         ``method="r-largest"``.
     """
-    from extremes.extremal import distributions, samples, uncertainty
+    def describe(res):
+        f = res.fit
+        return [f"r-largest GEV (r = {r}, events {min_separation_hours:g} h apart): location {f.loc:.3f} m, "
+                f"scale {f.scale:.3f} m, shape {f.shape:.3f}"]
 
-    rl = samples.r_largest(level_m_at_epoch, r=r, min_separation_hours=min_separation_hours,
-                           min_coverage=min_coverage)
-    fit = distributions.fit_gev_rlargest(rl)
-    table = uncertainty.return_levels(fit, _coarse(periods_years, profile_periods_years), ci=ci,
-                                      confidence=confidence)
-    notes = [f"r-largest GEV (r = {r}, events {min_separation_hours:g} h apart): location {fit.loc:.3f} m, "
-             f"scale {fit.scale:.3f} m, shape {fit.shape:.3f}",
-             f"{ci} intervals at {len(table)} periods, interpolated in log period"]
-    return _curve("r-largest", table, periods_years=periods_years, confidence=confidence, definition="1/AEP",
-                  datum=datum, epoch_year=epoch_year, interval=ci, notes=notes)
+    return _direct("r-largest", level_m_at_epoch, ci=ci, confidence=confidence, periods_years=periods_years,
+                   profile_periods_years=profile_periods_years, datum=datum, epoch_year=epoch_year,
+                   describe=describe, r=r, min_separation_hours=min_separation_hours, min_coverage=min_coverage)

@@ -164,7 +164,7 @@ def build_study_report(result, document: dict) -> tuple[str, dict[str, bytes]]:
         figures=(figure("tide_fit", lambda: figures.tide_fit_figure(result.level_epoch_m, predicted, datum=datum),
                         "Observed and predicted levels over a sample fortnight, and the residual spectrum."),),
         tables=(TableItem(_fmt_table(constituents[["name", "speed_deg_per_hour", "amplitude_m", "phase_deg",
-                                                   "amplitude_se_m", "phase_se_deg", "snr"]], 4),
+                                                   "amplitude_se_m", "phase_se_deg", "amplitude_to_se"]], 4),
                           "The 25 largest constituents."),
                 TableItem(datums, f"Tidal datums [m above {datum}] at the epoch.")),
     ))

@@ -246,7 +246,9 @@ _EPOCH_DAYS = np.datetime64("1899-12-31T12:00:00", "ns")
 _DAYS_PER_YEAR = DAYS_PER_YEAR
 #: half-width of the frequency band around each species used for the residual spectrum [cycles/day]
 BAND_HALF_WIDTH_CPD = 0.2
-SNR_THRESHOLD = 2.0
+#: a constituent whose amplitude is less than this many standard errors is reported as weak (its
+#: amplitude is not distinguishable from zero at about the 95 % level, normal approximation)
+WEAK_AMPLITUDE_RATIO = 2.0
 SCHEMA = "extremes.tide_model/1"
 
 
@@ -265,8 +267,9 @@ class FittedConstituent:
         Greenwich phase lag G (UTC, relative to the equilibrium argument), 0..360. [deg]
     amplitude_se_m, phase_se_deg : float
         Standard errors from the band-averaged residual spectrum. [m], [deg]
-    snr : float
-        Signal-to-noise ratio (H / SE_H)^2; below 2 the constituent is not significant.
+    amplitude_to_se : float
+        Amplitude over its standard error, H / SE_H; below :data:`WEAK_AMPLITUDE_RATIO` the constituent is
+        weak (its amplitude cannot be told from zero).
     inferred : bool
         True when inferred from a reference constituent rather than fitted.
     """
@@ -277,19 +280,20 @@ class FittedConstituent:
     phase_deg: float
     amplitude_se_m: float
     phase_se_deg: float
-    snr: float
+    amplitude_to_se: float
     inferred: bool = False
 
     @property
     def significant(self) -> bool:
-        """SNR >= 2 (inferred constituents count as significant when their reference is)."""
-        return bool(self.snr >= SNR_THRESHOLD)
+        """H / SE_H >= 2 (inferred constituents count as significant when their reference is)."""
+        return bool(self.amplitude_to_se >= WEAK_AMPLITUDE_RATIO)
 
     def to_dict(self) -> dict:
         return {"name": self.name, "speed_deg_per_hour": self.speed_deg_per_hour,
                 "amplitude_m": self.amplitude_m, "phase_deg": self.phase_deg,
                 "amplitude_se_m": self.amplitude_se_m, "phase_se_deg": self.phase_se_deg,
-                "snr": self.snr, "inferred": self.inferred}
+                "amplitude_to_se": self.amplitude_to_se, "weak": not self.significant,
+                "inferred": self.inferred}
 
     def __repr__(self) -> str:
         return f"FittedConstituent({self.name}, H={self.amplitude_m:.4f} m, G={self.phase_deg:.2f} deg)"
@@ -445,7 +449,7 @@ class TideModel:
                                   amplitude_m=float(c["amplitude_m"]), phase_deg=float(c["phase_deg"]),
                                   amplitude_se_m=_float_or_nan(c.get("amplitude_se_m")),
                                   phase_se_deg=_float_or_nan(c.get("phase_se_deg")),
-                                  snr=_float_or_nan(c.get("snr")), inferred=bool(c.get("inferred", False)))
+                                  amplitude_to_se=_float_or_nan(c.get("amplitude_to_se")), inferred=bool(c.get("inferred", False)))
                 for c in data["constituents"])
             return cls(
                 z0_m=float(data["z0_m"]), constituents=constituents,
@@ -590,7 +594,7 @@ ho (f_i/f_r)`-weighted columns to r's pair (constrained-column form), so the fit
     use, for each constituent, the residual variance of its frequency band (species k: k +- 0.2 cycles/day;
     long-period: 0-0.2 cycles/day) from the periodogram of the residual on the sampling grid (gaps as
     zeros, rescaled by the fraction of valid samples) in place of the white-noise variance [3]_; linearised
-    :math:`\sigma_H`, :math:`\sigma_G`. SNR = :math:`(H/\sigma_H)^2`.
+    :math:`\sigma_H`, :math:`\sigma_G`. The ratio :math:`H/\sigma_H` is reported; below 2 a constituent is weak.
 
     References
     ----------
@@ -755,8 +759,8 @@ ho (f_i/f_r)`-weighted columns to r's pair (constrained-column form), so the fit
             se_g = min(se_g, 180.0)  # the linearisation fails for amplitudes near zero: phase undetermined
         else:
             se_h, se_g = float(np.sqrt(0.5 * (va + vb))), 180.0
-        snr = float((h / se_h) ** 2) if se_h > 0 else float("inf")
-        item = FittedConstituent(nm, round(float(speeds_all[j]), 7), h, g, se_h, se_g, snr, False)
+        ratio = float(h / se_h) if se_h > 0 else float("inf")
+        item = FittedConstituent(nm, round(float(speeds_all[j]), 7), h, g, se_h, se_g, ratio, False)
         fitted.append(item)
         by_name[nm] = item
     for q, nm in enumerate(inferred):
@@ -764,7 +768,7 @@ ho (f_i/f_r)`-weighted columns to r's pair (constrained-column form), so the fit
         r = by_name[ref]
         fitted.append(FittedConstituent(
             nm, round(get_constituent(nm).speed_deg_per_hour, 7), float(amp_all[m_fit + q]),
-            float(pha_all[m_fit + q]), rho * r.amplitude_se_m, r.phase_se_deg, r.snr, True))
+            float(pha_all[m_fit + q]), rho * r.amplitude_se_m, r.phase_se_deg, r.amplitude_to_se, True))
     index_valid = values.index.tz_convert("UTC")
     mid = index_valid[0] + (index_valid[-1] - index_valid[0]) / 2
     logger.info("harmonic analysis: %d samples, %d constituents fitted, %d inferred, condition %.3g, "
@@ -777,4 +781,4 @@ ho (f_i/f_r)`-weighted columns to r's pair (constrained-column form), so the fit
     )
 
 
-__all__ = ["predict_tide", "analyse_tide", "TideModel", "FittedConstituent", "SNR_THRESHOLD"]
+__all__ = ["predict_tide", "analyse_tide", "TideModel", "FittedConstituent", "WEAK_AMPLITUDE_RATIO"]

@@ -143,8 +143,9 @@ def test_white_noise_standard_error_check_value():
     assert m2.amplitude_se_m == pytest.approx(0.00151, rel=0.2)
     assert m2.phase_se_deg == pytest.approx(0.087, rel=0.2)
     assert model.residual_std_m == pytest.approx(0.1, rel=0.03)
-    # a constituent with no signal has a low SNR and is flagged
-    assert min(c.snr for c in model.constituents) < 2
+    # a constituent with no signal has an amplitude within two standard errors of zero and is flagged weak
+    assert min(c.amplitude_to_se for c in model.constituents) < 2
+    assert any(c.to_dict()["weak"] for c in model.constituents)
 
 
 def test_time_zone_shift_changes_phase_by_speed_times_offset(red_model):
