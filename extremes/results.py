@@ -164,7 +164,8 @@ def _detail_dict(detail) -> dict:
     return to_jsonable(detail)
 
 
-def _csv(frame: pd.DataFrame) -> str:
+def csv_text(frame: pd.DataFrame) -> str:
+    """A table as CSV text: times as ISO 8601 UTC with Z, floats to 6 significant digits."""
     frame = frame.copy()
     for column in frame.columns:
         if isinstance(frame[column].dtype, pd.DatetimeTZDtype):
@@ -228,7 +229,7 @@ def write_study(result: StudyResult, out_dir, *, overwrite: bool = False, figure
         document = result.to_dict()
         (work / "tables").mkdir()
         for stem, frame in study_tables(result).items():
-            (work / "tables" / f"{stem}.csv").write_text(_csv(frame), encoding="utf-8")
+            (work / "tables" / f"{stem}.csv").write_text(csv_text(frame), encoding="utf-8")
         (work / "models").mkdir()
         (work / "models" / "tide_model.json").write_text(
             json.dumps(to_jsonable(result.tide_model.to_dict()), indent=2, allow_nan=False), encoding="utf-8")
