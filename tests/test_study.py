@@ -205,8 +205,9 @@ def test_tide_and_fit_commands_give_the_study_numbers(study, short_record):
     levels = {row["return_period_years"]: row for row in json.loads(fit.output)["return_levels"]}
     study_rows = {row["return_period_years"]: row for row in document["return_levels"]
                   if row["method"] == "annual-maxima"}
-    # (upper bounds are left out: on these 12 maxima the profile deviance stays below 1 far above the level,
+    # (the table holds 6 significant digits, hence the relative tolerance; upper bounds are left out: on these
+    # 12 maxima the fitted shape is near 1 and the profile deviance stays below 1 far above the level,
     # so the upper bound is set by the search limits and moves with the 6-digit rounding of the table)
     for period in (10.0, 100.0):
         for key in ("level_m", "lower_m"):
-            assert levels[period][key] == pytest.approx(study_rows[period][key], abs=2e-4), (period, key)
+            assert levels[period][key] == pytest.approx(study_rows[period][key], rel=5e-4), (period, key)
