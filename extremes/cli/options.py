@@ -50,6 +50,7 @@ def reader_options(func):
     @functools.wraps(func)
     def wrapper(*args, time_columns, level_column, time_format, units, missing, utc_offset, datum,
                 decimal_comma, variable, **kwargs):
+        _remember_given_reader_flags()
         kwargs["reader"] = {
             "time_columns": list(time_columns) or None,
             "level_column": level_column,
@@ -64,6 +65,26 @@ def reader_options(func):
         return func(*args, **kwargs)
 
     return wrapper
+
+
+#: reader keys and the parameters that set them
+_READER_PARAMS = {"time_columns": "time_columns", "level_column": "level_column", "time_format": "time_format",
+                  "units": "units", "missing": "missing", "utc_offset": "utc_offset", "datum": "datum",
+                  "decimal": "decimal_comma", "variable": "variable"}
+_GIVEN_KEY = "extremes.reader_flags_given"
+
+
+def _remember_given_reader_flags() -> None:
+    """Note in the click context which reader options were given on the command line (not defaulted), so
+    that a given flag beats the study file even when it equals its default (``--units m`` over ``cm``)."""
+    from click.core import ParameterSource
+
+    ctx = click.get_current_context(silent=True)
+    if ctx is None:
+        return
+    defaulted = {ParameterSource.DEFAULT, ParameterSource.DEFAULT_MAP, None}
+    ctx.meta[_GIVEN_KEY] = {key for key, param in _READER_PARAMS.items()
+                            if ctx.get_parameter_source(param) not in defaulted}
 
 
 def parse_number_list(text: str, *, name: str) -> list[float]:
@@ -176,10 +197,11 @@ def resolve_study_options(config, study: dict, reader: dict):
 
     file_options, file_reader = (StudyOptions(), {}) if config is None else load_study_file(config)
     options = file_options.replace(**study)
-    defaults = {"units": "m", "decimal": ".", "missing": []}
+    ctx = click.get_current_context(silent=True)
+    given = ctx.meta.get(_GIVEN_KEY, set()) if ctx is not None else set(reader)
     merged = dict(file_reader)
     for key, value in reader.items():
-        if value is None or (key in defaults and value == defaults[key] and key in file_reader):
-            continue
+        if value is None or (key in file_reader and key not in given):
+            continue  # unset, or a default that must not hide the file's value
         merged[key] = value
     return options, merged
