@@ -168,7 +168,7 @@ class ReturnLevelCurve:
         with np.errstate(divide="ignore"):
             return np.where(np.isinf(periods), 0.0, aep_from_period(periods, definition=self.period_definition))
 
-    def shifted(self, offset_m: float) -> "ReturnLevelCurve":
+    def shifted(self, offset_m: float) -> ReturnLevelCurve:
         """The curve with every level raised by ``offset_m`` (a sea-level-rise offset). [m]"""
         return ReturnLevelCurve(
             method=self.method, periods_years=self.periods_years, level_m=self.level_m + offset_m,
@@ -211,7 +211,7 @@ class ReturnLevelCurve:
         }
 
     @classmethod
-    def from_dict(cls, data: dict) -> "ReturnLevelCurve":
+    def from_dict(cls, data: dict) -> ReturnLevelCurve:
         """Inverse of :meth:`to_dict`; :class:`DataError` on a malformed dictionary."""
         try:
             def arr(key):

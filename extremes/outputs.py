@@ -11,8 +11,8 @@ import logging
 import os
 import shutil
 import tempfile
+from collections.abc import Iterator
 from pathlib import Path
-from typing import Iterator
 
 from extremes.errors import OutputError
 

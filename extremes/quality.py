@@ -155,7 +155,7 @@ class QualityReport:
 
     # ------------------------------------------------------------------------------------------------
     def with_residual_spikes(self, residual_m: pd.Series, *, spike_k: float = 5.0,
-                             spike_window_hours: float = 1.0) -> "QualityReport":
+                             spike_window_hours: float = 1.0) -> QualityReport:
         """Re-detect spikes on the de-tided (non-tidal) residual.
 
         Parameters

@@ -25,9 +25,10 @@ import io
 import logging
 import re
 import zlib
+from collections.abc import Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any, Sequence
+from typing import Any
 
 import numpy as np
 import pandas as pd
@@ -352,8 +353,8 @@ def _data_line_number(path: Path, row: int, first_data_line: int) -> int:
     """1-based line in the file of data row ``row`` (0-based), skipping blank and comment lines."""
     handle, _ = _open_text(path)
     seen = -1
-    with handle:
-        for number, raw in enumerate(io.TextIOWrapper(handle, encoding="utf-8", errors="replace"), start=1):
+    with io.TextIOWrapper(handle, encoding="utf-8", errors="replace") as lines:
+        for number, raw in enumerate(lines, start=1):
             if number < first_data_line:
                 continue
             stripped = raw.strip()
@@ -592,7 +593,7 @@ def _parse_times(text: pd.Series, *, time_format, path: Path, where: str, first_
             row = int(naive[0])
             line = _data_line_number(path, row, first_data_line)
             raise DataError(f"{source}: line {line}, {where}: stamp {text.iloc[row]!r} carries no UTC offset "
-                            f"while others do; expected every stamp with an offset or none")
+                            f"while others do; expected every stamp with an offset or none") from None
         parsed = pd.to_datetime(text, format=fmt, errors="coerce", utc=True)
     bad = np.flatnonzero(parsed.isna().to_numpy())
     if len(bad):

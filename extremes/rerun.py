@@ -103,7 +103,7 @@ def rerun_sea_level_rise(results_dir, *, slr_m, periods_years=None, method: str 
     reruns = list(document.get("reruns", []))
     reruns.append({"from": str(results_dir), "slr_m": list(offsets), "periods_years": periods,
                    "method": chosen, "software": {"name": "extremes", "version": __version__},
-                   "at": _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds")})
+                   "at": _dt.datetime.now(_dt.UTC).isoformat(timespec="seconds")})
     document["reruns"] = reruns
     if out_dir is not None:
         _write_rerun(Path(results_dir), Path(out_dir), document, slr, overwrite=overwrite)

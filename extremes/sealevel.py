@@ -59,6 +59,7 @@ import tomllib
 import warnings
 from dataclasses import dataclass
 from pathlib import Path
+
 import numpy as np
 from scipy.optimize import brentq
 from scipy.special import logsumexp

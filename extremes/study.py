@@ -27,8 +27,8 @@ import hashlib
 import logging
 import time
 import warnings
+from collections.abc import Callable
 from pathlib import Path
-from typing import Callable
 
 import numpy as np
 import pandas as pd

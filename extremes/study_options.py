@@ -36,7 +36,6 @@ from pathlib import Path
 from extremes.constants import DEFAULT_PERIODS_YEARS, DEFAULT_SEED, DEFAULT_SLR_M
 from extremes.errors import DataError
 
-
 _READER_KEYS = {"time_columns", "level_column", "time_format", "units", "missing", "utc_offset", "datum",
                 "decimal", "variable"}
 
@@ -124,7 +123,7 @@ class StudyOptions:
         if self.epoch_year is not None and not (1800 <= float(self.epoch_year) <= 2300):
             raise DataError(f"study option epoch_year must be a decimal year 1800-2300; got {self.epoch_year!r}")
 
-    def replace(self, **changes) -> "StudyOptions":
+    def replace(self, **changes) -> StudyOptions:
         """A copy with ``changes`` applied (None values are ignored, so unset flags keep the file's)."""
         return dataclasses.replace(self, **{k: v for k, v in changes.items() if v is not None})
 

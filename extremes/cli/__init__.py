@@ -7,15 +7,17 @@ unexpected becomes a one-line message and exit status 1. ``--debug`` shows the f
 """
 from __future__ import annotations
 
+import contextlib
 import importlib
 import importlib.util
 import logging
 import sys
+import warnings
 
 import click
 
 from extremes import __version__
-from extremes.errors import ExtremesError
+from extremes.errors import ExtremesError, ExtremesWarning
 
 #: subcommand name -> module (in this package) that defines ``command``
 COMMANDS: dict[str, str] = {
@@ -46,7 +48,8 @@ class _LazyGroup(click.Group):
 
     def invoke(self, ctx):
         try:
-            return super().invoke(ctx)
+            with _warnings_to_log():
+                return super().invoke(ctx)
         except (click.ClickException, click.exceptions.Exit, click.Abort, KeyboardInterrupt):
             raise
         except ExtremesError as err:
@@ -59,6 +62,21 @@ class _LazyGroup(click.Group):
             raise click.ClickException(
                 f"internal error ({type(err).__name__}): {_one_line(err)}; rerun with --debug for details"
             ) from err
+
+
+@contextlib.contextmanager
+def _warnings_to_log():
+    """The library's warnings (suspicious but valid input) go to the log on stderr, once each, and never stop a
+    command, whatever warning filters the caller set."""
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always", ExtremesWarning)
+        try:
+            yield
+        finally:
+            log = logging.getLogger("extremes")
+            for message in dict.fromkeys(str(w.message) for w in caught
+                                         if issubclass(w.category, ExtremesWarning)):
+                log.warning("%s", message)
 
 
 def _one_line(err: BaseException) -> str:

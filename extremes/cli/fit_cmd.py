@@ -3,7 +3,6 @@ from __future__ import annotations
 
 import json
 import logging
-import warnings
 
 import click
 
@@ -58,15 +57,11 @@ def command(file, model, method, ci, n_bootstrap, confidence, sample, threshold,
     problem = sample_fit.invalid_choice(sample=sample, model=model, method=method, ci=ci)
     if problem is not None:
         raise click.BadParameter(problem[1], param_hint=f"--{problem[0]}")
-    with warnings.catch_warnings(record=True) as caught:
-        warnings.simplefilter("always")
-        data = sample_fit.read_fit_input(file, sample=sample, reader=reader)
-        result = sample_fit.fit_sample(data, sample=sample, model=model, method=method, ci=ci,
-                                       periods_years=periods, confidence=confidence, n_bootstrap=n_bootstrap,
-                                       seed=seed, threshold_m=threshold, min_separation_hours=min_separation_hours,
-                                       r=r, min_coverage=min_coverage, water_year_start_month=water_year_start)
-    for w in caught:
-        logger.warning("%s", w.message)
+    data = sample_fit.read_fit_input(file, sample=sample, reader=reader)
+    result = sample_fit.fit_sample(data, sample=sample, model=model, method=method, ci=ci, periods_years=periods,
+                                   confidence=confidence, n_bootstrap=n_bootstrap, seed=seed, threshold_m=threshold,
+                                   min_separation_hours=min_separation_hours, r=r, min_coverage=min_coverage,
+                                   water_year_start_month=water_year_start)
     out = result.to_dict()
     if as_json:
         click.echo(json.dumps(out, allow_nan=False))

@@ -8,23 +8,60 @@ use the textbook sign (Coles 2001): shape > 0 is a heavy (Fréchet) tail, shape 
 from extremes.extremal.dependence import extremal_index_intervals, extremal_index_runs
 from extremes.extremal.diagnostics import GoodnessOfFit, aicc_table, anderson_darling, probability_plot
 from extremes.extremal.distributions import (
-    FIT_METHODS, MODELS, GEVFit, GPDFit, exponential_loglik, fit_exponential, fit_gev, fit_gev_many,
-    fit_gev_rlargest, fit_gev_rlargest_many, fit_gpd, fit_gpd_many, fit_gumbel, gev_cdf,
-    gev_exceedance_probability, gev_lmoment_parameters, gev_loglik, gev_quantile, gev_return_level,
-    gev_rlargest_loglik, gpd_exceedance_probability, gpd_exceedance_rate, gpd_loglik, gpd_return_level,
-    gumbel_loglik, sample_lmoments,
+    FIT_METHODS,
+    MODELS,
+    GEVFit,
+    GPDFit,
+    exponential_loglik,
+    fit_exponential,
+    fit_gev,
+    fit_gev_many,
+    fit_gev_rlargest,
+    fit_gev_rlargest_many,
+    fit_gpd,
+    fit_gpd_many,
+    fit_gumbel,
+    gev_cdf,
+    gev_exceedance_probability,
+    gev_lmoment_parameters,
+    gev_loglik,
+    gev_quantile,
+    gev_return_level,
+    gev_rlargest_loglik,
+    gpd_exceedance_probability,
+    gpd_exceedance_rate,
+    gpd_loglik,
+    gpd_return_level,
+    gumbel_loglik,
+    sample_lmoments,
 )
 from extremes.extremal.nonstationary import NonStationaryGEVFit, fit_gev_nonstationary
 from extremes.extremal.samples import (
-    SAMPLE_METHODS, AnnualMaxima, Peaks, RLargest, annual_maxima, observed_years, peaks_over_threshold, r_largest,
+    SAMPLE_METHODS,
+    AnnualMaxima,
+    Peaks,
+    RLargest,
+    annual_maxima,
+    observed_years,
+    peaks_over_threshold,
+    r_largest,
     read_annual_maxima,
 )
 from extremes.extremal.threshold import (
-    ThresholdChoice, mean_residual_life, parameter_stability, return_level_by_threshold, select_threshold,
+    ThresholdChoice,
+    mean_residual_life,
+    parameter_stability,
+    return_level_by_threshold,
+    select_threshold,
 )
 from extremes.extremal.uncertainty import (
-    BOOTSTRAP_METHODS, CI_METHODS, bootstrap_parameters, delta_standard_errors, gev_return_level_gradient,
-    profile_intervals_many, return_levels,
+    BOOTSTRAP_METHODS,
+    CI_METHODS,
+    bootstrap_parameters,
+    delta_standard_errors,
+    gev_return_level_gradient,
+    profile_intervals_many,
+    return_levels,
 )
 
 __all__ = [

@@ -180,7 +180,6 @@ def fit_gev_nonstationary(maxima, *, years=None, reference_year=None, scale_tren
     dt = t - t0
     stat = D.fit_gev(x)
     X = x[None, :]
-    p = 5 if scale_trend else 4
 
     def fun(th, rows):
         # th: (k, p) with ln σ0 in column 2

@@ -18,8 +18,8 @@ import numpy as np
 import pandas as pd
 
 from extremes.constants import DAYS_PER_YEAR, UNIT_TO_METRES
-from extremes.timebase import level_series, sampling_interval
 from extremes.errors import DataError
+from extremes.timebase import level_series, sampling_interval
 
 logger = logging.getLogger(__name__)
 

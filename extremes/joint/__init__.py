@@ -17,8 +17,8 @@ Public functions (see each module):
 from extremes.joint.classic import classic_joint_probability
 from extremes.joint.clustering import extremal_index_by_level
 from extremes.joint.compare import MethodComparison, compare_methods
-from extremes.joint.direct import direct_annual_maxima, direct_peaks_over_threshold, direct_r_largest
 from extremes.joint.core import SurgeDistribution, exceedance_per_tide, levels_for_rates
+from extremes.joint.direct import direct_annual_maxima, direct_peaks_over_threshold, direct_r_largest
 from extremes.joint.result import JointProbabilityResult
 from extremes.joint.skew import skew_surge_joint_probability
 

@@ -147,7 +147,6 @@ def _gpd_rows(s, u, p, scale, shape):
 
 def component_rates(component, *, z0, nz, h, events_per_year, year_draws=None, method="mle"):
     """Rate rows N*share*Q_c on the grid: the fit (row 0) and, with ``year_draws`` (B, n_years), resamples."""
-    from extremes.extremal import distributions
 
     c = component
     s_dist = c.surge

@@ -23,14 +23,14 @@ import warnings
 import numpy as np
 import pandas as pd
 
-from extremes.curves import DENSE_PERIODS_YEARS, ReturnLevelCurve
 from extremes.constants import DAYS_PER_YEAR, NODAL_CYCLE_YEARS
-from extremes.timebase import level_series
+from extremes.curves import DENSE_PERIODS_YEARS, ReturnLevelCurve
 from extremes.errors import DataError, ExtremesWarning
 from extremes.joint import engine
 from extremes.joint.clustering import cycle_positions, extremal_index_by_level, theta_function
 from extremes.joint.core import levels_for_rates
 from extremes.joint.result import CLUSTERING_TABLE_PERIODS_YEARS, JointProbabilityResult
+from extremes.timebase import level_series
 
 logger = logging.getLogger(__name__)
 
@@ -110,8 +110,8 @@ def assemble(method, components, *, events_per_year, theta_table, year_ids, peri
 
 def choose_threshold(series, threshold_m, threshold_quantile, notes, diagnostics, what):
     """The tail threshold [m]: given, or from the extreme-value stage's automatic choice, or a quantile."""
-    from extremes.extremal import threshold as threshold_choice
     from extremes.errors import FitError
+    from extremes.extremal import threshold as threshold_choice
 
     if threshold_m is not None:
         return float(threshold_m)

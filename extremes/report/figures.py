@@ -31,7 +31,7 @@ from __future__ import annotations
 
 import io
 import logging
-from typing import Callable, Mapping
+from collections.abc import Callable, Mapping
 
 import numpy as np
 import pandas as pd

@@ -12,8 +12,8 @@ import html
 import json
 import logging
 import math
+from collections.abc import Mapping
 from dataclasses import dataclass, field
-from typing import Mapping
 
 import numpy as np
 import pandas as pd

@@ -11,8 +11,8 @@ import functools
 import logging
 import multiprocessing
 import os
+from collections.abc import Callable
 from dataclasses import dataclass
-from typing import Callable
 
 import numpy as np
 import pandas as pd

@@ -24,7 +24,6 @@ import logging
 import numpy as np
 import pandas as pd
 
-from extremes.errors import DataError
 from extremes.timebase import utc_index
 
 logger = logging.getLogger(__name__)

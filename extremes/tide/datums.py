@@ -23,8 +23,8 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from extremes.errors import DataError
 from extremes.constants import DAYS_PER_YEAR, NODAL_CYCLE_YEARS
+from extremes.errors import DataError
 from extremes.tide.astronomy import to_utc_index
 from extremes.tide.harmonic import CHUNK, TideModel
 

@@ -26,14 +26,19 @@ import pandas as pd
 import scipy.linalg
 import scipy.linalg.blas
 
+from extremes.constants import DAYS_PER_YEAR
 from extremes.errors import DataError, ExtremesWarning, FitError
 from extremes.outputs import write_text_atomic
-from extremes.constants import DAYS_PER_YEAR
-from extremes.timebase import level_series
 from extremes.tide.astronomy import days_since_epoch, doodson_variables_days, to_utc_index
-from extremes.tide.constituents import (DEFAULT_INFERRED, EQUILIBRIUM_INFERENCE, doodson_matrix,
-                                       get_constituent, select_constituents)
+from extremes.tide.constituents import (
+    DEFAULT_INFERRED,
+    EQUILIBRIUM_INFERENCE,
+    doodson_matrix,
+    get_constituent,
+    select_constituents,
+)
 from extremes.tide.nodal import family_factors, nodal_exponents
+from extremes.timebase import level_series
 
 logger = logging.getLogger(__name__)
 
@@ -149,7 +154,7 @@ class _GridBlocks:
         self.ec, self.es = np.cos(arg), np.sin(arg)
 
     @staticmethod
-    def of(d: np.ndarray, basis: _Basis) -> "_GridBlocks | None":
+    def of(d: np.ndarray, basis: _Basis) -> _GridBlocks | None:
         """The grid blocks of ``d`` when its samples lie on a regular grid (gaps allowed), else None."""
         if d.shape[0] < _REGULAR_MIN:
             return None
@@ -394,7 +399,7 @@ class TideModel:
         times : array-like of tz-aware datetimes, or a Series with a DatetimeIndex
             Prediction instants (UTC).
         include_mean : bool, keyword-only
-            Add Z0 and the fitted trend (else the tide about zero mean). 
+            Add Z0 and the fitted trend (else the tide about zero mean).
         exclude : sequence of str, keyword-only
             Constituents left out (e.g. the radiational Sa, Ssa, S1).
 
@@ -431,7 +436,7 @@ class TideModel:
         }
 
     @classmethod
-    def from_dict(cls, data: dict) -> "TideModel":
+    def from_dict(cls, data: dict) -> TideModel:
         """Rebuild a model from :meth:`to_dict` output.
 
         Raises
@@ -473,7 +478,7 @@ class TideModel:
         return write_text_atomic(path, text + "\n", overwrite=overwrite)
 
     @classmethod
-    def load(cls, path) -> "TideModel":
+    def load(cls, path) -> TideModel:
         """Read a model written by :meth:`save`.
 
         Raises

@@ -46,7 +46,7 @@ def test_batch_command_end_to_end_failure_resume_and_manifest(tmp_path):
     pytest.importorskip("extremes.study", reason="the study module has not landed yet")
     from tests.test_batch import write_tidal_record
 
-    good = write_tidal_record(tmp_path / "harbour.csv", seed=3)
+    write_tidal_record(tmp_path / "harbour.csv", seed=3)
     (tmp_path / "broken.csv").write_text("time,level\n2020-01-01T00:00Z,abc\n")
     out = tmp_path / "out"
     common = ["--out", out, "--datum", "CD", "--periods", "10,100", "--resamples", "20", "--no-figures", "--json"]

@@ -11,7 +11,11 @@ from scipy.signal import lfilter
 
 from extremes.errors import DataError
 from extremes.extremal.samples import (
-    annual_maxima, observed_years, peaks_over_threshold, r_largest, read_annual_maxima,
+    annual_maxima,
+    observed_years,
+    peaks_over_threshold,
+    r_largest,
+    read_annual_maxima,
 )
 
 from .conftest import hourly_series

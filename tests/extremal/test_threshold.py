@@ -10,7 +10,10 @@ from scipy import stats
 
 from extremes.errors import FitError
 from extremes.extremal.threshold import (
-    mean_residual_life, parameter_stability, return_level_by_threshold, select_threshold,
+    mean_residual_life,
+    parameter_stability,
+    return_level_by_threshold,
+    select_threshold,
 )
 
 

@@ -9,7 +9,11 @@ from scipy import stats
 
 from extremes.extremal import distributions as D
 from extremes.extremal.uncertainty import (
-    CI_METHODS, bootstrap_parameters, delta_standard_errors, gev_return_level_gradient, profile_intervals_many,
+    CI_METHODS,
+    bootstrap_parameters,
+    delta_standard_errors,
+    gev_return_level_gradient,
+    profile_intervals_many,
     return_levels,
 )
 

@@ -4,8 +4,13 @@ import pandas as pd
 import pytest
 
 from extremes.errors import DataError
-from extremes.tide.astronomy import (RATES_DEG_PER_HOUR, days_since_epoch, doodson_variables,
-                                     doodson_variables_days, doodson_variables_meeus)
+from extremes.tide.astronomy import (
+    RATES_DEG_PER_HOUR,
+    days_since_epoch,
+    doodson_variables,
+    doodson_variables_days,
+    doodson_variables_meeus,
+)
 
 # METHODS.md sec. 1 check table [C] (Set A, Explanatory Supplement 1961 polynomials)
 CHECK = [

@@ -3,7 +3,7 @@ import numpy as np
 import pytest
 
 from extremes.errors import DataError
-from extremes.tide.constituents import (CONSTITUENTS, PRIORITY, get_constituent, select_constituents)
+from extremes.tide.constituents import CONSTITUENTS, PRIORITY, get_constituent, select_constituents
 
 # The standard published 37-constituent list (Schureman 1958; METHODS.md sec. 2 "pub." column [V]), 7 decimals
 PUBLISHED_SPEEDS = {

@@ -4,7 +4,7 @@ import pandas as pd
 import pytest
 
 from extremes.errors import DataError
-from extremes.tide.datums import (RADIATIONAL, form_factor, high_low_waters, tidal_datums, tide_type)
+from extremes.tide.datums import RADIATIONAL, form_factor, high_low_waters, tidal_datums, tide_type
 from extremes.tide.harmonic import FittedConstituent, TideModel
 from extremes.tide.nodal import nodal_corrections
 

@@ -1,5 +1,4 @@
 """Tests of extremes.tide.harmonic: prediction, analysis, model I/O."""
-import datetime as dt
 
 import numpy as np
 import pandas as pd
@@ -80,7 +79,6 @@ def test_predict_input_errors():
 
 
 # ---------------------------------------------------------------------------------------------------- analysis
-from extremes.errors import FitError  # noqa: E402
 from extremes.tide.harmonic import FittedConstituent, TideModel, analyse_tide  # noqa: E402
 
 MAJOR = {"M2": (1.2, 30.0), "S2": (0.4, 75.0), "N2": (0.25, 10.0), "K1": (0.3, 200.0), "O1": (0.2, 150.0),
