@@ -298,7 +298,7 @@ def open_gridded(path: str | os.PathLike, *, variable: str | None = None, chunks
 
     path = Path(path)
     try:
-        dataset = xr.open_dataset(path, chunks={})
+        dataset = xr.open_dataset(path, engine="netcdf4", chunks={})
     except (OSError, ValueError) as err:
         raise DataError(f"gridded file {path}: cannot be opened as NetCDF ({' '.join(str(err).split())})") from err
     name, point_dim = _level_variable(dataset, variable=variable, path=path)
@@ -367,7 +367,7 @@ def gridded_blocks(path: str | os.PathLike, *, variable: str | None = None, bloc
         raise DataError(f"block_size must be >= 1; got {block_size}")
     path = Path(path)
     try:
-        dataset = xr.open_dataset(path)  # lazily indexed backend arrays: only what is asked for is read
+        dataset = xr.open_dataset(path, engine="netcdf4")  # lazily indexed backend arrays: only what is asked for is read
     except (OSError, ValueError) as err:
         raise DataError(f"gridded file {path}: cannot be opened as NetCDF ({' '.join(str(err).split())})") from err
     with dataset:

@@ -615,7 +615,7 @@ def _read_netcdf(path: Path, *, variable, units, offset, utc_offset):
 
     source = str(path)
     try:
-        dataset = xr.open_dataset(path)
+        dataset = xr.open_dataset(path, engine="netcdf4")
     except Exception as err:  # noqa: BLE001 - any backend failure is a bad file to the user
         raise DataError(f"{source}: cannot be read as NetCDF ({_short(err)})") from None
     with dataset:

@@ -25,6 +25,8 @@ from extremes import batch
 from extremes.errors import DataError
 from extremes.outputs import output_folder
 
+pytestmark = pytest.mark.slow  # whole studies, batches or simulations
+
 ROOT = Path(__file__).resolve().parents[1]
 PERIODS = (2.0, 10.0, 100.0)
 

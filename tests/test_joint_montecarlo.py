@@ -14,6 +14,8 @@ import pytest
 from extremes.curves import period_from_aep
 from extremes.joint import skew_surge_joint_probability
 
+pytestmark = pytest.mark.slow  # whole studies, batches or simulations
+
 TIDES_PER_YEAR = 705.75
 NODAL_SET_SIZE = 13_134  # high waters in 18.61 years
 

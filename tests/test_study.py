@@ -15,6 +15,8 @@ from click.testing import CliRunner
 
 from extremes.cli import cli
 
+pytestmark = pytest.mark.slow  # whole studies, batches or simulations
+
 CONTRACT_KEYS = {"schema", "software", "inputs", "record", "tide", "mean_sea_level", "return_levels",
                  "recommended_method", "sea_level_rise", "cautions"}
 METHODS = {"annual-maxima", "peaks-over-threshold", "r-largest", "joint-probability",

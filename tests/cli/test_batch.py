@@ -9,6 +9,8 @@ from click.testing import CliRunner
 
 from extremes.cli import cli
 
+pytestmark = pytest.mark.slow  # whole studies, batches or simulations
+
 
 def invoke(*args):
     return CliRunner().invoke(cli, ["batch", *map(str, args)])

@@ -13,6 +13,8 @@ from click.testing import CliRunner
 from extremes.cli import cli
 from extremes.examples import example_records_folder
 
+pytestmark = pytest.mark.slow  # whole studies, batches or simulations
+
 
 @pytest.fixture(scope="module")
 def demo(tmp_path_factory):
