@@ -23,6 +23,7 @@ folder atomically:
 """
 from __future__ import annotations
 
+import functools
 import io
 import json
 import logging
@@ -112,6 +113,13 @@ class StudyResult:
         return (f"StudyResult(source={Path(self.source).name!r}, epoch={self.epoch_year:.2f}, "
                 f"methods={len(self.curves)}, recommended={self.recommended_method!r})")
 
+    @functools.cached_property
+    def assessment(self):
+        """The plausibility verdict on the levels (:func:`extremes.assessment.assess`)."""
+        from extremes.assessment import assess
+
+        return assess(quality=self.quality, study=self)
+
     @property
     def datum(self) -> str:
         """Vertical datum of every level."""
@@ -151,6 +159,7 @@ class StudyResult:
             "warnings": list(self.warnings),
             "timings_s": self.timings_s,
             "cautions": list(self.cautions),
+            "assessment": self.assessment.to_dict(),
         }
         return to_jsonable(document)
 

@@ -70,6 +70,19 @@ def test_results_json_has_every_contract_key(study):
     assert any("licensed" in c or "local" in c for c in document["cautions"])
 
 
+def test_assessment_in_results_and_first_in_the_summary(study):
+    # CONTRACT.md: assessment {status, reasons}; shown first in the command-line summary
+    out, output = study
+    document = json.loads((out / "results.json").read_text())
+    verdict = document["assessment"]
+    assert verdict["status"] in ("ok", "check", "unreliable")
+    assert isinstance(verdict["reasons"], list) and all(isinstance(r, str) for r in verdict["reasons"])
+    assert (verdict["status"] == "ok") == (verdict["reasons"] == [])
+    assert output.lstrip().startswith(f"assessment: {verdict['status'].upper() if verdict['status'] != 'ok' else 'ok'}")
+    for reason in verdict["reasons"]:
+        assert reason in output
+
+
 def test_levels_increase_with_period_and_intervals_bracket(study):
     out, _ = study
     table = pd.read_csv(out / "tables" / "return_levels.csv")

@@ -41,7 +41,7 @@ def summary_text(result, out_dir: Path) -> str:
     curve = result.curves[result.recommended_method]
     periods = result.options["study"]["periods_years"]
     table = curve.table(periods)
-    lines = [
+    lines = result.assessment.summary_lines() + [
         f"Still-water return levels [m above {result.datum}] at the mean-sea-level epoch {result.epoch_year:.2f}",
         f"recommended method: {result.recommended_method}",
         f"  {'period [yr]':>11}  {'level [m]':>9}  {100 * curve.confidence:.0f}% interval [m]",
