@@ -20,7 +20,8 @@ that applies wins, so the counts add up to the rows read):
    neighbours: the mean of the median of the samples in the half window before and the median of those in
    the half window after (``spike_window_hours`` = 1 h in all, at least 3 samples each side, so the tide is
    followed without lag and a sample never predicts itself; flat lines are taken out first), :math:`\hat\sigma = 1.4826` times the median
-   absolute deviation of :math:`x - \tilde{x}` over the record, and ``spike_k`` :math:`k=5` [1]_. On the raw level this catches isolated bad readings; once the tide is known,
+   absolute deviation of :math:`x - \tilde{x}` over the record (over each sampling era) or, where larger, over
+   the window around the sample (a storm surge rising fast is not a spike), and ``spike_k`` :math:`k=5` [1]_. On the raw level this catches isolated bad readings; once the tide is known,
    :meth:`QualityReport.with_residual_spikes` applies the same test to the non-tidal residual;
 8. ``ok``.
 
@@ -48,7 +49,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
-from extremes.constants import DAYS_PER_YEAR
+from extremes import clock, datum_steps, sampling
 from extremes.errors import DataError, ExtremesWarning
 from extremes.records import GaugeRecord
 
@@ -98,6 +99,14 @@ class QualityReport:
         From the record.
     options : dict
         The options used.
+    eras : pandas.DataFrame
+        Sampling eras (:func:`extremes.sampling.sampling_eras`) with each era's ``spike_scale_m``.
+    timing_offsets : pandas.DataFrame
+        Clock faults found (:func:`extremes.clock.timing_offsets`): ``start``, ``end`` (exclusive),
+        ``offset_minutes`` (stamps ahead of true time), ``months``, ``statistic``.
+    corrections : tuple of dict
+        The known corrections applied by the reader (``start``, ``end``, ``add_m``, ``shift_minutes``,
+        ``rows``).
     """
 
     level_m: pd.Series
@@ -115,6 +124,9 @@ class QualityReport:
     datum: str
     source: str
     options: dict = field(default_factory=dict)
+    eras: pd.DataFrame = field(default_factory=lambda: sampling.sampling_eras([]))
+    timing_offsets: pd.DataFrame = field(default_factory=lambda: clock.empty_offsets())
+    corrections: tuple = ()
 
     # ------------------------------------------------------------------------------------------------
     @property
@@ -182,7 +194,12 @@ class QualityReport:
         residual = residual[~residual.index.duplicated()].reindex(self.level_m.index)
         values = residual.to_numpy(dtype=float, copy=True)
         values[np.isnan(self.level_m.to_numpy())] = np.nan
-        spikes, _ = _spikes(values, self.interval, spike_k, spike_window_hours, times=self.level_m.index)
+        # the residual of a span with a clock fault is polluted by the timing error, not by spikes: those
+        # spans are left out of the test (and out of the surge statistics of a study)
+        excluded = self.clock_fault_mask(self.level_m.index)
+        eras = self.eras if len(self.eras) else sampling.sampling_eras(self.level_m.index)
+        spikes, _ = _spikes_by_era(values, self.level_m.index, eras, spike_k, spike_window_hours,
+                                   exclude=excluded)
         spike_times = self.level_m.index[spikes]
         codes = self.flags.cat.codes.to_numpy().copy()
         hit = (codes == _CODE["ok"]) & self.flags.index.isin(spike_times)
@@ -196,10 +213,27 @@ class QualityReport:
         options = dict(self.options, residual_spike_k=spike_k, residual_spike_window_hours=spike_window_hours)
         return dataclasses.replace(
             self, level_m=level, flags=flags, counts=_counts(codes),
-            completeness_by_year=completeness_by_year(level, interval=self.interval), options=options)
+            completeness_by_year=completeness_by_year(level, eras=self.eras if len(self.eras) else None),
+            options=options)
+
+    def clock_fault_mask(self, times) -> np.ndarray:
+        """True at the ``times`` inside a span with a detected (uncorrected) clock fault."""
+        times = pd.DatetimeIndex(times)
+        mask = np.zeros(len(times), dtype=bool)
+        for row in self.timing_offsets.itertuples():
+            mask |= (times >= row.start) & (times < row.end)
+        return mask
+
+    def warn_clock_faults(self) -> None:
+        """Warn (:class:`ExtremesWarning`) of each detected clock fault, kept out of the surge statistics."""
+        for row in self.timing_offsets.itertuples():
+            warnings.warn(f"{self.source}: clock fault {row.start:%Y-%m-%d %H:%M} to {row.end:%Y-%m-%d %H:%M} UTC "
+                          f"(stamps {row.offset_minutes:+.0f} min ahead of true time) kept out of the tide and surge "
+                          f"statistics; give --corrections with shift_minutes {-row.offset_minutes:+.0f} over that "
+                          f"span to use it", ExtremesWarning, stacklevel=3)
 
     # ------------------------------------------------------------------------------------------------
-    def to_dict(self, *, max_positions: int = 5, max_gaps: int = 200) -> dict:
+    def to_dict(self, *, max_positions: int = 5, max_gaps: int | None = 200) -> dict:
         """The ``record`` object of the results (CONTRACT.md) plus details; JSON-ready, NaN-free."""
         index = self.flags.index
         flags = {name: int(self.counts.get(name, 0)) for name in FLAGS}
@@ -212,7 +246,9 @@ class QualityReport:
                 where = self.positions(name, max_positions)
                 faults[name] = {"count": count, "rows": [int(r) for r in where["row"]],
                                 "times": [_iso(t) for t in where["time"]]}
-        gaps = self.gaps.head(max_gaps)
+        # the longest gaps of the whole record (listed in time order), so a long outage is never cut off
+        gaps = self.gaps if max_gaps is None or len(self.gaps) <= max_gaps else \
+            self.gaps.loc[self.gaps["hours"].nlargest(max_gaps).index].sort_index()
         return {
             "start": _iso(index.min()) if len(index) else None,
             "end": _iso(index.max()) if len(index) else None,
@@ -236,8 +272,15 @@ class QualityReport:
                      for g in gaps.itertuples()],
             "completeness_by_year": {str(int(y)): _finite(v) for y, v in self.completeness_by_year.items()},
             "datum_shift_candidates": [
-                {"time": _iso(s.time), "size_m": _finite(s.size_m), "statistic": _finite(s.statistic)}
+                {"time": _iso(s.time), "size_m": _finite(s.size_m), "statistic": _finite(s.statistic),
+                 "critical": _finite(getattr(s, "critical", None))}
                 for s in self.datum_shifts.itertuples()],
+            "sampling": sampling.eras_to_list(self.eras),
+            "timing_offsets": [
+                {"start": _iso(o.start), "end": _iso(o.end), "offset_minutes": _finite(o.offset_minutes),
+                 "months": int(o.months), "statistic": _finite(o.statistic)}
+                for o in self.timing_offsets.itertuples()],
+            "corrections": [dict(c) for c in self.corrections],
             "options": {k: (_finite(v) if isinstance(v, float) else v) for k, v in self.options.items()},
         }
 
@@ -273,8 +316,8 @@ def _check_positive(**values):
 # ----------------------------------------------------------------------------------------------------------
 def check_record(record: GaugeRecord, *, range_factor: float = 3.0, spike_k: float = 5.0,
                  spike_window_hours: float = 1.0, flatline_min_run: int = 4, flatline_min_hours: float = 1.0,
-                 shift_threshold: float = 5.0, min_month_completeness: float = 0.5,
-                 min_segment_months: int = 12) -> QualityReport:
+                 shift_threshold: float | None = None, min_month_completeness: float = 0.5,
+                 min_segment_months: int = 12, detect_clock_faults: bool = True) -> QualityReport:
     """Quality-control a record: flag every row (see the module notes for rules and precedence).
 
     Parameters
@@ -292,11 +335,14 @@ def check_record(record: GaugeRecord, *, range_factor: float = 3.0, spike_k: flo
     flatline_min_hours : float, keyword-only
         Shortest time from the first to the last reading of a flat line [h].
     shift_threshold : float, keyword-only
-        Threshold of the standardised difference of medians for a datum-shift candidate.
+        A fixed critical value of the datum-step statistic (default: simulated for the record's length and
+        autocorrelation, :mod:`extremes.datum_steps`).
     min_month_completeness : float, keyword-only
         Months with a smaller fraction of samples are left out of the datum-shift test.
     min_segment_months : int, keyword-only
         Shortest stretch between two datum-shift candidates [months].
+    detect_clock_faults : bool, keyword-only
+        Look for spans with a timing offset (:mod:`extremes.clock`).
 
     Returns
     -------
@@ -310,19 +356,21 @@ def check_record(record: GaugeRecord, *, range_factor: float = 3.0, spike_k: flo
     if not isinstance(record, GaugeRecord):
         raise DataError(f"record must be a GaugeRecord from read_record; got {type(record).__name__}")
     _check_positive(range_factor=range_factor, spike_k=spike_k, spike_window_hours=spike_window_hours,
-                    flatline_min_hours=flatline_min_hours, shift_threshold=shift_threshold)
+                    flatline_min_hours=flatline_min_hours)
+    if shift_threshold is not None:
+        _check_positive(shift_threshold=shift_threshold)
     if int(flatline_min_run) < 2:
         raise DataError(f"flatline_min_run must be >= 2; got {flatline_min_run!r}")
     options = dict(range_factor=range_factor, spike_k=spike_k, spike_window_hours=spike_window_hours,
                    flatline_min_run=int(flatline_min_run), flatline_min_hours=flatline_min_hours,
                    shift_threshold=shift_threshold, min_month_completeness=min_month_completeness,
-                   min_segment_months=int(min_segment_months))
+                   min_segment_months=int(min_segment_months), detect_clock_faults=bool(detect_clock_faults))
     series = record.water_level_m
     index = series.index
     if index.tz is None:
         raise DataError(f"{record.source}: record times are naive; expected tz-aware UTC")
-    unit = np.datetime_data(index.dtype.base)[0] if hasattr(index.dtype, "base") else "ns"
-    stamps = index.asi8
+    unit = "ns"
+    stamps = index.as_unit("ns").asi8
     values = series.to_numpy(dtype=float)
     n = len(values)
     codes = np.zeros(n, dtype=np.int8)
@@ -364,19 +412,15 @@ def check_record(record: GaugeRecord, *, range_factor: float = 3.0, spike_k: flo
         u_rows = order[codes[order] == 0]
     ut, uv = stamps[u_rows], values[u_rows].copy()
 
-    # grid
-    step = int(record.interval / pd.Timedelta(1, unit=unit)) if not pd.isna(record.interval) else 0
+    # sampling eras; each era on its own grid when its stamps lie on it (gaps as NaN rows)
     all_unique = _sorted_unique(stamps)
-    if step > 0:
-        off_grid = (all_unique - all_unique[0]) % step != 0
-        irregular_fraction = float(off_grid.mean())
-        regular = not off_grid.any()
-    else:
-        irregular_fraction, regular = 0.0, True
-    if not regular:
+    eras = sampling.sampling_eras(all_unique)
+    grid_times, steps, off_grid = _era_grids(all_unique, eras, unit)
+    irregular_fraction = float(off_grid) / max(len(all_unique), 1)
+    regular = off_grid == 0 and bool(eras["regular"].all()) if len(eras) else True
+    if off_grid:
         warnings.warn(f"{record.source}: irregular sampling: {100 * irregular_fraction:.2f}% of the stamps are "
-                      f"off the {record.interval} grid; the clean series keeps the stamps as read",
-                      ExtremesWarning, stacklevel=2)
+                      f"off their era's grid; those eras keep the stamps as read", ExtremesWarning, stacklevel=2)
 
     # physical range from the record's robust spread
     q_lo, q_hi = np.quantile(uv, [0.005, 0.995])
@@ -386,27 +430,20 @@ def check_record(record: GaugeRecord, *, range_factor: float = 3.0, spike_k: flo
     codes[u_rows[bad_range]] = _CODE["out_of_range"]
     uv[bad_range] = np.nan
 
-    # the working series: on the regular grid, or the sorted unique stamps
-    if regular and step > 0:
-        start = all_unique[0]
-        position = (ut - start) // step
-        n_grid = int((all_unique[-1] - start) // step) + 1
-        work = np.full(n_grid, np.nan)
-        work[position] = uv
-        grid_index = pd.DatetimeIndex(pd.to_datetime(start + step * np.arange(n_grid, dtype=np.int64),
-                                                     unit=unit, utc=True), name="time")
-    else:
-        position = np.arange(len(ut))
-        work = uv.copy()
-        grid_index = pd.DatetimeIndex(pd.to_datetime(ut, unit=unit, utc=True), name="time")
-    grid_times = grid_index.asi8
+    # the working series on the eras' grids
+    position = np.searchsorted(grid_times, ut)
+    work = np.full(len(grid_times), np.nan)
+    work[position] = uv
+    grid_index = pd.DatetimeIndex(pd.to_datetime(grid_times, unit=unit, utc=True), name="time")
 
-    # flat lines, then spikes on the raw level without them
+    # flat lines, then spikes on the raw level without them, each era with its own interval
     flat = _flat_runs(work, grid_times, min_run=int(flatline_min_run),
                       min_span=int(pd.Timedelta(hours=flatline_min_hours) / pd.Timedelta(1, unit=unit)),
-                      step=step if regular else 0)
+                      steps=steps)
     work[flat] = np.nan
-    spikes, spike_scale = _spikes(work, record.interval, spike_k, spike_window_hours, times=grid_index)
+    spikes, scales = _spikes_by_era(work, grid_index, eras, spike_k, spike_window_hours)
+    spike_scale = scales[int(np.argmax(eras["n_stamps"].to_numpy()))] if len(scales) else float("nan")
+    eras = eras.assign(spike_scale_m=scales) if len(eras) else eras
     work[spikes] = np.nan
     present = ~np.isnan(uv)
     flat_at = flat[position] & present
@@ -417,17 +454,19 @@ def check_record(record: GaugeRecord, *, range_factor: float = 3.0, spike_k: flo
     level = pd.Series(work, index=grid_index, name="level_m")
     level.attrs.update({"units": "m", "datum": record.datum})
     flags = pd.Series(pd.Categorical.from_codes(codes, categories=_CATEGORIES), index=index, name="flag")
-    reading_times = _sorted_unique(stamps[~nan & ~is_code]) if step else np.array([], dtype=np.int64)
-    gaps = _gaps(reading_times, step, unit)
-    completeness = completeness_by_year(level, interval=record.interval)
-    shifts = datum_shift_candidates(level, interval=record.interval, threshold=shift_threshold,
-                                    min_month_completeness=min_month_completeness,
-                                    min_segment_months=int(min_segment_months))
+    reading_times = _sorted_unique(stamps[~nan & ~is_code])
+    gaps = _gaps(reading_times, eras, unit)
+    completeness = completeness_by_year(level, eras=eras)
+    shifts = datum_steps.datum_shift_candidates(level, eras=eras, threshold=shift_threshold,
+                                                min_month_completeness=min_month_completeness,
+                                                min_segment_months=int(min_segment_months))
+    offsets = clock.timing_offsets(level, eras=eras) if detect_clock_faults else clock.empty_offsets()
     report = QualityReport(
         level_m=level, flags=flags, counts=_counts(codes), gaps=gaps, completeness_by_year=completeness,
         datum_shifts=shifts, interval=record.interval, regular=regular, irregular_fraction=irregular_fraction,
         out_of_order_rows=out_of_order, range_m=(float(lower), float(upper)), spike_scale_m=float(spike_scale),
-        datum=record.datum, source=record.source, options=options)
+        datum=record.datum, source=record.source, options=options, eras=eras, timing_offsets=offsets,
+        corrections=tuple(record.meta.get("corrections", ())))
     logger.info("%r", report)
     return report
 
@@ -471,19 +510,77 @@ def _spikes(work: np.ndarray, interval, k: float, hours: float, *, times) -> tup
     if not scale > 0:
         logger.info("spike test skipped: the running-median deviations have zero spread")
         return np.zeros(len(work), dtype=bool), float(scale)
+    # a spike stands alone: its neighbours agree with their own running median. Where they do not (a storm
+    # surge rising or turning within the window) the local spread of the deviations sets the scale, so a
+    # fast but smooth change is not taken for a spike
+    magnitude = np.abs(deviation - centre)
+    local = _MAD_TO_SIGMA * pd.Series(magnitude).rolling(2 * half + 1, center=True,
+                                                        min_periods=half + 1).median().to_numpy()
     with np.errstate(invalid="ignore"):
-        spikes = np.abs(deviation - centre) > k * scale
+        spikes = magnitude > k * np.fmax(scale, local)
     return spikes & ok, float(scale)
 
 
-def _flat_runs(work: np.ndarray, times: np.ndarray, *, min_run: int, min_span: int, step: int) -> np.ndarray:
-    """Positions in runs of >= min_run consecutive identical readings spanning >= min_span (time units)."""
+def _era_grids(stamps: np.ndarray, eras: pd.DataFrame, unit: str) -> tuple[np.ndarray, np.ndarray, int]:
+    """The working time axis: each era's grid (regular eras whose stamps all lie on it) or its stamps.
+
+    Returns the times, the grid step at each time (0 where the era keeps its stamps) and the number of
+    stamps off their era's grid.
+    """
+    if eras.empty:
+        return stamps, np.zeros(len(stamps), dtype=np.int64), 0
+    starts = pd.DatetimeIndex(eras["start"]).as_unit(unit).asi8
+    intervals = pd.TimedeltaIndex(eras["interval"]).as_unit(unit).asi8
+    bounds = np.append(np.searchsorted(stamps, starts[1:]), len(stamps))
+    lo = 0
+    times, steps, off = [], [], 0
+    for k, hi in enumerate(bounds):
+        piece = stamps[lo:hi]
+        step = int(intervals[k])
+        misplaced = int(np.count_nonzero((piece - piece[0]) % step)) if step > 0 and len(piece) else len(piece)
+        if bool(eras["regular"].iloc[k]) and misplaced == 0 and len(piece):
+            n_grid = int((piece[-1] - piece[0]) // step) + 1
+            times.append(piece[0] + step * np.arange(n_grid, dtype=np.int64))
+            steps.append(np.full(n_grid, step, dtype=np.int64))
+        else:
+            off += misplaced if bool(eras["regular"].iloc[k]) else 0
+            times.append(piece)
+            steps.append(np.zeros(len(piece), dtype=np.int64))
+        lo = hi
+    return np.concatenate(times), np.concatenate(steps), off
+
+
+def _spikes_by_era(work: np.ndarray, index: pd.DatetimeIndex, eras: pd.DataFrame, k: float, hours: float,
+                   exclude: np.ndarray | None = None) -> tuple[np.ndarray, list]:
+    """The spike test of :func:`_spikes` in each era with the era's interval and its own robust scale."""
+    spikes = np.zeros(len(work), dtype=bool)
+    scales = []
+    if eras.empty:
+        return spikes, scales
+    starts = np.searchsorted(index.as_unit("ns").asi8, pd.DatetimeIndex(eras["start"]).as_unit("ns").asi8)
+    bounds = np.append(starts[1:], len(work))
+    for lo, hi, interval in zip(starts, bounds, eras["interval"]):
+        piece = work[lo:hi].copy()
+        if exclude is not None:
+            piece[exclude[lo:hi]] = np.nan
+        found, scale = _spikes(piece, interval, k, hours, times=index[lo:hi])
+        spikes[lo:hi] = found
+        scales.append(float(scale))
+    return spikes, scales
+
+
+def _flat_runs(work: np.ndarray, times: np.ndarray, *, min_run: int, min_span: int,
+               steps: np.ndarray) -> np.ndarray:
+    """Positions in runs of >= min_run consecutive identical readings spanning >= min_span (time units).
+
+    ``steps`` is the grid step at each position (0 where the stamps are kept as read): on a grid, a run
+    needs consecutive grid slots.
+    """
     n = len(work)
     if n < min_run:
         return np.zeros(n, dtype=bool)
     same = work[1:] == work[:-1]  # NaN breaks a run
-    if step:
-        same &= np.diff(times) == step
+    same &= (steps[1:] == 0) | (np.diff(times) == steps[1:])
     new_run = np.concatenate([[True], ~same])
     run_id = np.cumsum(new_run) - 1
     run_start = np.flatnonzero(new_run)
@@ -494,35 +591,51 @@ def _flat_runs(work: np.ndarray, times: np.ndarray, *, min_run: int, min_span: i
     return flagged_run[run_id]
 
 
-def _gaps(reading_times: np.ndarray, step: int, unit: str) -> pd.DataFrame:
-    if step <= 0 or len(reading_times) < 2:
+#: an irregular era has a gap where the spacing exceeds this many times its median spacing [-]
+IRREGULAR_GAP_FACTOR = 2.0
+
+
+def _gaps(reading_times: np.ndarray, eras: pd.DataFrame, unit: str) -> pd.DataFrame:
+    """Gaps: spacings between readings longer than the interval of the eras on both sides."""
+    if eras.empty or len(reading_times) < 2:
         return pd.DataFrame({"start": pd.DatetimeIndex([], tz="UTC"), "end": pd.DatetimeIndex([], tz="UTC"),
                              "hours": np.array([], dtype=float)})
+    step = sampling.sample_intervals_ns(reading_times, eras)
+    regular = eras["regular"].to_numpy()[np.clip(np.searchsorted(
+        pd.DatetimeIndex(eras["start"]).as_unit("ns").asi8, reading_times, side="right") - 1, 0, len(eras) - 1)]
+    allowed = np.where(regular, step, IRREGULAR_GAP_FACTOR * step)
     spacing = np.diff(reading_times)
-    where = np.flatnonzero(spacing > step)
-    start = pd.to_datetime(reading_times[where] + step, unit=unit, utc=True)
-    end = pd.to_datetime(reading_times[where + 1] - step, unit=unit, utc=True)
-    hours = (spacing[where] - step) * (pd.Timedelta(1, unit=unit) / pd.Timedelta(hours=1))
+    limit = np.maximum(allowed[:-1], allowed[1:])
+    where = np.flatnonzero(spacing > limit)
+    before, after = step[where], step[where + 1]
+    start = pd.to_datetime(reading_times[where] + before, unit=unit, utc=True)
+    end = pd.to_datetime(reading_times[where + 1] - after, unit=unit, utc=True)
+    hours = (spacing[where] - before) * (pd.Timedelta(1, unit=unit) / pd.Timedelta(hours=1))
     return pd.DataFrame({"start": start, "end": end, "hours": hours.astype(float)})
 
 
 def completeness_by_year(level_m: pd.Series, *, interval: pd.Timedelta | None = None,
-                         water_year_start_month: int = 1) -> pd.Series:
-    """Fraction of the expected samples present (finite) in each year.
+                         water_year_start_month: int = 1, eras: pd.DataFrame | None = None) -> pd.Series:
+    """Fraction of each year covered by valid (finite) samples, each counting its era's interval.
 
     Parameters
     ----------
     level_m : pandas.Series
         Level on a tz-aware UTC index [m]; NaN counts as absent.
     interval : pandas.Timedelta, optional
-        Sampling interval; default the most common spacing of the index.
+        One sampling interval for every sample. Default: each sample's era interval
+        (:func:`extremes.sampling.sampling_eras`, from ``eras`` or from the index).
     water_year_start_month : int, keyword-only
         First month of the year (1: calendar year). A year is labelled by the calendar year it starts in.
+    eras : pandas.DataFrame, optional
+        Sampling eras of the record (:func:`extremes.sampling.sampling_eras`).
 
     Returns
     -------
     pandas.Series
-        Completeness in [0, 1] indexed by year (int), from the first to the last year of the index.
+        Completeness in [0, 1] indexed by year (int), from the first to the last year of the index: the
+        time the valid samples represent over the year's length, so each era is measured against its own
+        interval (METHODS sec. 14).
     """
     index = level_m.index
     if not isinstance(index, pd.DatetimeIndex) or index.tz is None:
@@ -531,117 +644,31 @@ def completeness_by_year(level_m: pd.Series, *, interval: pd.Timedelta | None = 
         raise DataError(f"water_year_start_month must be 1..12; got {water_year_start_month!r}")
     if len(index) == 0:
         return pd.Series([], dtype=float, name="completeness")
-    if interval is None or pd.isna(interval):
-        spacing = np.diff(index.asi8)
-        spacing = spacing[spacing > 0]
-        if not len(spacing):
-            return pd.Series([], dtype=float, name="completeness")
-        unit = np.datetime_data(index.dtype.base)[0]
-        values, tally = np.unique(spacing, return_counts=True)
-        interval = pd.Timedelta(int(values[np.argmax(tally)]), unit=unit)
     index = index.tz_convert("UTC")
+    if interval is not None and not pd.isna(interval):
+        weights = np.full(len(index), pd.Timedelta(interval).value, dtype=np.int64)
+    else:
+        weights = sampling.sample_intervals_ns(index, eras)
+    if not weights.any():
+        return pd.Series([], dtype=float, name="completeness")
     year = index.year.to_numpy()
     if water_year_start_month != 1:
         year = year - (index.month.to_numpy() < water_year_start_month)
     finite = np.isfinite(level_m.to_numpy(dtype=float))
     first, last = int(year.min()), int(year.max())
-    present = np.bincount(year[finite] - first, minlength=last - first + 1)
+    present_ns = np.bincount(year[finite] - first, weights=weights[finite].astype(float),
+                             minlength=last - first + 1)
     years = np.arange(first, last + 1)
     starts = pd.to_datetime([f"{y}-{water_year_start_month:02d}-01" for y in years], utc=True)
     ends = pd.to_datetime([f"{y + 1}-{water_year_start_month:02d}-01" for y in years], utc=True)
-    expected = (ends - starts) / interval
-    out = pd.Series(np.minimum(1.0, present / np.asarray(expected, dtype=float)), index=years,
-                    name="completeness")
+    length_ns = (ends - starts).as_unit("ns").asi8.astype(float)
+    out = pd.Series(np.minimum(1.0, present_ns / length_ns), index=years, name="completeness")
     out.index.name = "year"
     out.attrs["water_year_start_month"] = int(water_year_start_month)
     return out
 
 
-def datum_shift_candidates(level_m: pd.Series, *, interval: pd.Timedelta | None = None, threshold: float = 5.0,
-                           min_month_completeness: float = 0.5, min_segment_months: int = 12,
-                           max_shifts: int = 5) -> pd.DataFrame:
-    r"""Candidate datum shifts: step changes in the monthly means of a clean level series.
-
-    Monthly means (months at least ``min_month_completeness`` complete) are detrended with the
-    Theil-Sen slope [3]_ and de-seasoned with the median of each calendar month; binary segmentation [2]_
-    then splits at the month :math:`k` maximising :math:`T_k = |\hat\delta_k| / \mathrm{se}(\hat\delta_k)`,
-    the step :math:`\hat\delta_k` of a least-squares fit of a line plus a step at :math:`k`, with the noise
-    scale :math:`\hat\sigma` taken robustly from the median absolute month-to-month difference (insensitive
-    to the steps and to the trend). A split with :math:`T_k >`
-    ``threshold`` is a candidate; each side is searched again. The sizes are then estimated together by
-    least squares of the de-seasoned monthly means on a line plus one step per candidate.
-
-    Returns
-    -------
-    pandas.DataFrame
-        Columns ``time`` (first month after the step, UTC), ``size_m`` (later minus earlier) [m] and
-        ``statistic`` :math:`T_k`.
-    """
-    empty = pd.DataFrame({"time": pd.DatetimeIndex([], tz="UTC"), "size_m": np.array([], dtype=float),
-                          "statistic": np.array([], dtype=float)})
-    if len(level_m) == 0:
-        return empty
-    naive = level_m.tz_convert("UTC").tz_localize(None)
-    grouped = naive.resample("MS")
-    means = grouped.mean()
-    present = grouped.count()
-    if interval is None or pd.isna(interval):
-        return empty
-    month_length = (means.index + pd.offsets.MonthBegin(1)) - means.index
-    completeness = present.to_numpy() / (month_length / interval).to_numpy(dtype=float)
-    months = means[(completeness >= min_month_completeness) & means.notna().to_numpy()]
-    n = len(months)
-    if n < 2 * min_segment_months:
-        return empty
-    t_years = ((months.index - months.index[0]) / pd.Timedelta(days=DAYS_PER_YEAR)).to_numpy(dtype=float)
-    x = months.to_numpy(dtype=float)
-    i, j = np.triu_indices(n, k=1)
-    slope = float(np.median((x[j] - x[i]) / (t_years[j] - t_years[i])))  # Theil-Sen [3]
-    intercept = float(np.median(x - slope * t_years))
-    residual = x - (intercept + slope * t_years)
-    calendar_month = months.index.month.to_numpy()
-    season = np.zeros(13)
-    for m in range(1, 13):
-        sel = calendar_month == m
-        if sel.any():
-            season[m] = np.median(residual[sel])
-    residual = residual - season[calendar_month]
-    x_deseasoned = x - season[calendar_month]
-    diffs = np.diff(residual)
-    sigma = _MAD_TO_SIGMA * np.median(np.abs(diffs - np.median(diffs))) / math.sqrt(2.0)
-    if not sigma > 0:
-        return empty
-
-    found: list[tuple[int, float]] = []
-
-    def search(lo: int, hi: int) -> None:
-        m = hi - lo
-        if len(found) >= max_shifts or m < 2 * min_segment_months:
-            return
-        y = x_deseasoned[lo:hi]
-        t = t_years[lo:hi] - t_years[lo:hi].mean()
-        best_k, best_t = None, 0.0
-        for k in range(min_segment_months, m - min_segment_months + 1):
-            design = np.column_stack([np.ones(m), t, (np.arange(m) >= k).astype(float)])
-            coef, *_ = np.linalg.lstsq(design, y, rcond=None)
-            unscaled = np.linalg.inv(design.T @ design)[2, 2]
-            stat = abs(coef[2]) / (sigma * math.sqrt(unscaled))
-            if stat > best_t:
-                best_k, best_t = k, stat
-        if best_k is None or best_t <= threshold:
-            return
-        found.append((lo + best_k, best_t))
-        search(lo, lo + best_k)
-        search(lo + best_k, hi)
-
-    search(0, n)
-    if not found:
-        return empty
-    found.sort()
-    design = [np.ones(n), t_years] + [(np.arange(n) >= k).astype(float) for k, _ in found]
-    coef, *_ = np.linalg.lstsq(np.column_stack(design), x_deseasoned, rcond=None)
-    times = pd.DatetimeIndex([months.index[k] for k, _ in found]).tz_localize("UTC")
-    return pd.DataFrame({"time": times, "size_m": coef[2:], "statistic": [t for _, t in found]})
+datum_shift_candidates = datum_steps.datum_shift_candidates
 
 
 __all__ = ["FLAGS", "QualityReport", "check_record", "completeness_by_year", "datum_shift_candidates"]

@@ -137,7 +137,7 @@ def _iso(stamp) -> str | None:
 def read_record(path, *, time_columns: Sequence[str] | str | None = None, level_column: str | None = None,
                 time_format: str | None = None, units: str = "m", missing: Sequence[float] = (),
                 utc_offset: str | None = None, datum: str | None = None, decimal: str = ".",
-                variable: str | None = None) -> GaugeRecord:
+                variable: str | None = None, corrections=None) -> GaugeRecord:
     """Read a tide-gauge record (delimited text, optionally ``.gz``, or NetCDF).
 
     Parameters
@@ -165,6 +165,10 @@ def read_record(path, *, time_columns: Sequence[str] | str | None = None, level_
         Decimal mark of numbers in a text file.
     variable : str, optional
         NetCDF only: name of the water-level variable.
+    corrections : path-like or sequence of Correction, optional
+        Known level offsets and clock shifts (:mod:`extremes.corrections`), applied to the rows read before
+        anything else; the record then holds the corrected rows and ``meta["corrections"]`` lists each
+        correction with the rows it changed.
 
     Returns
     -------
@@ -224,6 +228,17 @@ def read_record(path, *, time_columns: Sequence[str] | str | None = None, level_
     index = level.index
     series = pd.Series(values, index=index, name="water_level_m")
     series.attrs.update({"units": "m", "datum": datum or "unspecified"})
+    if corrections is not None:
+        from extremes import corrections as known
+
+        items = (known.read_corrections(corrections) if isinstance(corrections, (str, Path))
+                 else tuple(corrections))
+        series, applied = known.apply_corrections(series, items)
+        meta["corrections"] = applied
+        if isinstance(corrections, (str, Path)):
+            meta["corrections_file"] = str(corrections)
+            meta["corrections_sha256"] = _sha256(Path(corrections))
+        index = series.index
     interval = _most_common_spacing(index)
     meta.update({"units_in_file": file_units, "n_missing_code": counts, "n_empty": n_empty,
                  "n_rows": int(len(values))})

@@ -161,7 +161,9 @@ def _valid_record_years(record, qc) -> float:
     valid = qc.level_m.dropna()
     if valid.size < 2:
         raise DataError(f"{record.source}: no valid readings left after quality control")
-    record_years = float(valid.size * qc.interval / pd.Timedelta(days=DAYS_PER_YEAR))
+    from extremes import sampling
+
+    record_years = sampling.represented_years(valid, qc.eras if len(qc.eras) else None)
     if record_years < MIN_RECORD_YEARS:
         raise DataError(f"{record.source}: {record_years:.2f} years of valid data; a study needs at "
                         f"least {MIN_RECORD_YEARS:g} year (several decades for design levels)")

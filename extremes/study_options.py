@@ -37,7 +37,7 @@ from extremes.constants import DEFAULT_PERIODS_YEARS, DEFAULT_SEED, DEFAULT_SLR_
 from extremes.errors import DataError
 
 _READER_KEYS = {"time_columns", "level_column", "time_format", "units", "missing", "utc_offset", "datum",
-                "decimal", "variable"}
+                "decimal", "variable", "corrections"}
 
 
 @dataclass(frozen=True)

@@ -95,6 +95,16 @@ def _times(values: Any, name: str) -> pd.DatetimeIndex:
     return utc_index(values, name=name)
 
 
+def _era_step(times_ns: np.ndarray, positions: np.ndarray, eras: pd.DataFrame, default: int) -> np.ndarray:
+    """Sampling interval [ns] of the era of each sample ``times_ns[positions]`` (``default`` with one era)."""
+    if len(eras) <= 1:
+        return np.full(positions.shape, default, dtype=np.int64)
+    era_start = pd.DatetimeIndex(eras["start"]).as_unit("ns").asi8
+    era_dt = pd.TimedeltaIndex(eras["interval"]).as_unit("ns").asi8
+    which = np.clip(np.searchsorted(era_start, times_ns[positions], side="right") - 1, 0, len(era_start) - 1)
+    return era_dt[which]
+
+
 def _sampling_interval_ns(index: pd.DatetimeIndex) -> int:
     """Most common positive spacing of the index [ns]."""
     return int(sampling_interval(index).value)
@@ -265,7 +275,18 @@ def skew_surges_from_turning_points(level_m: pd.Series, turning_points: pd.DataF
     i0 = np.searchsorted(tv, win_a, side="left")
     i1 = np.searchsorted(tv, win_b, side="right")
     n_valid = i1 - i0
-    n_expected = (np.floor_divide(win_b - t0, dt) - (-np.floor_divide(-(win_a - t0), dt)) + 1)
+    # grid slots of each window on its own sampling era's grid (origin and interval; METHODS sec. 14)
+    from extremes.sampling import sampling_eras
+
+    eras = sampling_eras(t_all)
+    if len(eras) > 1:
+        era_start = pd.DatetimeIndex(eras["start"]).as_unit("ns").asi8
+        era_dt = pd.TimedeltaIndex(eras["interval"]).as_unit("ns").asi8
+        which = np.clip(np.searchsorted(era_start, win_a, side="right") - 1, 0, len(era_start) - 1)
+        origin, step = era_start[which], era_dt[which]
+    else:
+        origin, step = t0, dt
+    n_expected = (np.floor_divide(win_b - origin, step) - (-np.floor_divide(-(win_a - origin), step)) + 1)
     complete = n_valid >= n_expected
     keep = complete if require_complete else n_valid > 0
     n_skipped = int(n_cycles - np.count_nonzero(keep))
@@ -291,14 +312,16 @@ def skew_surges_from_turning_points(level_m: pd.Series, turning_points: pd.DataF
         pos = np.searchsorted(tv, obs_time)
         inner = (pos - 1 >= i0) & (pos + 1 < i1)
         p_in = np.where(inner, pos, 1)
-        inner &= (tv[p_in] - tv[p_in - 1] == dt) & (tv[np.minimum(p_in + 1, tv.size - 1)] - tv[p_in] == dt)
+        # neighbours one interval of the crest's own sampling era away (the same rule in every era)
+        step_at = np.where(inner, _era_step(tv, p_in, eras, dt), dt)
+        inner &= (tv[p_in] - tv[p_in - 1] == step_at) & (tv[np.minimum(p_in + 1, tv.size - 1)] - tv[p_in] == step_at)
         a, b, c = vv[p_in - 1], vv[p_in], vv[np.minimum(p_in + 1, vv.size - 1)]
         denom = a - 2.0 * b + c
         with np.errstate(divide="ignore", invalid="ignore"):
             delta = np.where(inner & (denom < 0), 0.5 * (a - c) / denom, 0.0)
         delta = np.clip(delta, -0.5, 0.5)
         obs_max = np.where(inner, b - 0.25 * (a - c) * delta, obs_max)
-        obs_time = obs_time + np.rint(delta * dt).astype(np.int64)
+        obs_time = obs_time + np.rint(delta * step_at).astype(np.int64)
     out = pd.DataFrame({
         "time": _ns_to_utc(hi_ns),
         "predicted_high_water_m": hi_level,
@@ -656,24 +679,38 @@ def annual_mean_sea_level(level_m: pd.Series, *, min_completeness: float = 0.75)
     level = _check_level_series(level_m)
     if not 0.0 <= min_completeness <= 1.0:
         raise ValueError(f"min_completeness must be within [0, 1]; got {min_completeness}")
-    dt = _sampling_interval_ns(level.index)
-    valid = level.dropna()
+    from extremes.sampling import sample_intervals_ns
+
+    _sampling_interval_ns(level.index)  # at least two stamps
+    # each sample weighted by the time it represents (its sampling era's interval), so a year that changed
+    # from hourly to 6-minute readings is neither dropped nor dominated by its 6-minute part (METHODS sec. 14)
+    weight = sample_intervals_ns(level.index).astype(float)
+    finite = level.notna().to_numpy()
+    valid = level[finite]
+    w_valid = weight[finite]
     years = np.arange(level.index[0].year, level.index[-1].year + 1)
     yr_start = _year_start_ns(years)
     yr_end = _year_start_ns(years + 1)
-    n_expected = (yr_end - yr_start) / dt
     if valid.size:
         vy = valid.index.year.to_numpy()
         vt = decimal_year(valid.index)
-        grouped = pd.DataFrame({"y": vy, "v": valid.to_numpy(), "t": vt}).groupby("y")
-        sums = grouped.agg(mean_m=("v", "mean"), n_samples=("v", "size"), mean_time_year=("t", "mean"))
+        frame = pd.DataFrame({"y": vy, "wv": w_valid * valid.to_numpy(), "wt": w_valid * vt, "w": w_valid,
+                              "n": 1})
+        grouped = frame.groupby("y").sum()
+        sums = pd.DataFrame({"mean_m": grouped["wv"] / grouped["w"], "n_samples": grouped["n"],
+                             "mean_time_year": grouped["wt"] / grouped["w"], "w": grouped["w"]})
     else:
-        sums = pd.DataFrame(columns=["mean_m", "n_samples", "mean_time_year"], dtype=float)
+        sums = pd.DataFrame(columns=["mean_m", "n_samples", "mean_time_year", "w"], dtype=float)
     out = sums.reindex(years)
     out.index.name = "year"
     out["n_samples"] = out["n_samples"].fillna(0).astype(int)
-    out["n_expected"] = n_expected
-    out["completeness"] = np.minimum(out["n_samples"] / n_expected, 1.0)
+    represented = out["w"].fillna(0.0).to_numpy(dtype=float)
+    length = (yr_end - yr_start).astype(float)
+    # expected samples at the year's own (time-weighted mean) interval
+    with np.errstate(invalid="ignore", divide="ignore"):
+        mean_interval = np.where(out["n_samples"] > 0, represented / np.maximum(out["n_samples"], 1), np.nan)
+    out["n_expected"] = np.where(np.isfinite(mean_interval), length / mean_interval, 0.0)
+    out["completeness"] = np.minimum(represented / length, 1.0)
     out["complete"] = out["completeness"] >= min_completeness
     out.loc[~out["complete"], "mean_m"] = np.nan
     out = out[["mean_m", "n_samples", "n_expected", "completeness", "complete", "mean_time_year"]]

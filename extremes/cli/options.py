@@ -43,13 +43,15 @@ def reader_options(func):
         click.option("--datum", metavar="NAME", help="Name of the vertical datum of the levels."),
         click.option("--decimal-comma", is_flag=True, help="Numbers use a decimal comma (e.g. 1,23)."),
         click.option("--variable", metavar="NAME", help="NetCDF only: the water-level variable to read."),
+        click.option("--corrections", type=click.Path(path_type=Path), metavar="FILE",
+                     help="Known corrections (CSV start,end,add_m,shift_minutes), applied before quality control."),
     ]
     for option in reversed(options):
         func = option(func)
 
     @functools.wraps(func)
     def wrapper(*args, time_columns, level_column, time_format, units, missing, utc_offset, datum,
-                decimal_comma, variable, **kwargs):
+                decimal_comma, variable, corrections, **kwargs):
         _remember_given_reader_flags()
         kwargs["reader"] = {
             "time_columns": list(time_columns) or None,
@@ -61,6 +63,7 @@ def reader_options(func):
             "datum": datum,
             "decimal": "," if decimal_comma else ".",
             "variable": variable,
+            "corrections": None if corrections is None else str(corrections),
         }
         return func(*args, **kwargs)
 

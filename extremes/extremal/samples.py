@@ -38,10 +38,19 @@ def _interval(index):
     return sampling_interval(index)
 
 
+def _represented_ns(index):
+    """Time each sample represents [ns]: its sampling era's interval (:mod:`extremes.sampling`)."""
+    from extremes.sampling import sample_intervals_ns
+
+    return sample_intervals_ns(index).astype(float)
+
+
 def observed_years(series):
-    """Valid-data time of a series in years: (number of valid samples × sampling interval) / 365.2425 d."""
+    """Valid-data time of a series in years: the sum over valid samples of their sampling era's interval,
+    over 365.2425 d."""
     s = _check_series(series)
-    return float(s.notna().sum() * _interval(s.index) / pd.Timedelta(days=DAYS_PER_YEAR))
+    _interval(s.index)  # at least two stamps
+    return float(_represented_ns(s.index)[s.notna().to_numpy()].sum() / pd.Timedelta(days=DAYS_PER_YEAR).value)
 
 
 def _year_labels(index, start_month):
@@ -100,15 +109,16 @@ class AnnualMaxima:
 
 
 def _coverage_by_year(s, start_month):
-    interval = _interval(s.index)
+    _interval(s.index)  # at least two stamps
+    # each valid sample counts the interval of its own sampling era, so hourly and 6-minute years compare
+    represented = np.where(s.notna().to_numpy(), _represented_ns(s.index), 0.0)
     labels = _year_labels(s.index, start_month)
     years = np.arange(labels.min(), labels.max() + 1)
-    valid = pd.Series(s.notna().to_numpy(), index=labels).groupby(level=0).sum()
+    valid = pd.Series(represented, index=labels).groupby(level=0).sum()
     cov = {}
     for y in years:
         start, end = _year_bounds(y, start_month)
-        expected = (end - start) / interval
-        cov[int(y)] = float(valid.get(y, 0)) / expected
+        cov[int(y)] = float(valid.get(y, 0.0)) / float((end - start).value)
     return pd.Series(cov, name="coverage"), labels
 
 

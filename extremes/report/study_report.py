@@ -108,6 +108,9 @@ def build_study_report(result, document: dict) -> tuple[str, dict[str, bytes]]:
     summary = Summary(
         datum=datum, epoch_year=epoch, recommended_method=recommended, levels=levels,
         paragraphs=(
+            "Verdict: " + document["assessment"]["status"].upper() + (
+                " - " + " ".join(document["assessment"]["reasons"]) if document["assessment"]["reasons"]
+                else " - every plausibility check passed."),
             f"Why this method: {result.comparison.reason}",
             f"Return periods are {'1/AEP' if curve.period_definition == '1/AEP' else 'average recurrence intervals (1/rate; AEP = 1 - exp(-1/T))'}; "
             f"intervals are {100 * curve.confidence:.0f}% ({curve.interval_method or 'see method'}).",
@@ -127,10 +130,11 @@ def build_study_report(result, document: dict) -> tuple[str, dict[str, bytes]]:
         f"{rec['n_missing']} held no reading; flagged readings are excluded from the analysis, not deleted. "
         f"Total length of gaps: {rec['flags']['gap_hours'] or 0:.0f} hours in {rec['n_gaps']} gaps.",
     ]
+    record_paragraphs.extend(_archive_paragraphs(rec))
     if rec.get("datum_shift_candidates"):
         record_paragraphs.append(
-            "Candidate datum shifts (step changes in monthly means; the test also responds to real year-to-year "
-            "changes of mean sea level) were found: "
+            "Candidate datum steps (step changes in monthly means beyond the year-to-year change of mean sea "
+            "level) were found: "
             + "; ".join(f"{c['time']} ({c['size_m']:+.3f} m)" for c in rec["datum_shift_candidates"])
             + ". Check them against the gauge's levelling history before relying on the levels.")
     sections.append(Section(
@@ -305,3 +309,21 @@ def build_study_report(result, document: dict) -> tuple[str, dict[str, bytes]]:
     html = render_report(title=f"Design still-water levels: {result.source.split('/')[-1]}", summary=summary,
                          sections=sections, cautions=result.cautions, provenance=provenance)
     return html, pngs
+
+
+def _archive_paragraphs(rec: dict) -> list[str]:
+    """Sampling eras, corrections applied and clock faults of the record object, in words."""
+    out = []
+    if len(rec.get("sampling", [])) > 1:
+        out.append("Sampling eras (each quality-controlled at its own interval; readings weighted by the time they "
+                   "represent): " + "; ".join(f"{e['start'][:10]} to {e['end'][:10]} every {e['interval_minutes']:g} "
+                                              f"min" for e in rec["sampling"]) + ".")
+    if rec.get("corrections"):
+        out.append("Known corrections applied before quality control: " + "; ".join(
+            f"{c['start']} to {c['end'] or 'the end'}: {c['add_m']:+g} m, {c['shift_minutes']:+g} min "
+            f"({c.get('rows', 0)} rows)" for c in rec["corrections"]) + ".")
+    if rec.get("timing_offsets"):
+        out.append("Clock faults found and not corrected, kept out of the tide and surge statistics: " + "; ".join(
+            f"{o['start']} to {o['end']} (stamps {o['offset_minutes']:+.0f} min ahead of true time)"
+            for o in rec["timing_offsets"]) + ".")
+    return out

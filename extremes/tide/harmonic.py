@@ -199,6 +199,32 @@ def _synthesise(d: np.ndarray, basis: _Basis, amplitudes_m: np.ndarray, phases_d
     return out
 
 
+def _era_segments(d: np.ndarray) -> list[tuple[int, int, float]]:
+    """Sampling eras of ``d`` (days since the epoch, ascending) as ``(first, stop, interval_days)`` slices;
+    one segment when the sampling interval never changes (:func:`extremes.sampling.sampling_eras`)."""
+    from extremes import sampling
+
+    if d.shape[0] < 2:
+        return [(0, d.shape[0], 0.0)]
+    ns = np.rint(d * 86400e9).astype(np.int64) + _EPOCH_DAYS.astype(np.int64)
+    eras = sampling.sampling_eras(ns)
+    if len(eras) <= 1:
+        return [(0, d.shape[0], float(eras["interval"].iloc[0] / pd.Timedelta(days=1)) if len(eras) else 0.0)]
+    starts = np.searchsorted(ns, pd.DatetimeIndex(eras["start"]).as_unit("ns").asi8)
+    stops = np.append(starts[1:], d.shape[0])
+    return [(int(a), int(b), float(i / pd.Timedelta(days=1)))
+            for a, b, i in zip(starts, stops, eras["interval"]) if b > a]
+
+
+def _synthesise_by_era(d: np.ndarray, basis: _Basis, amplitudes_m: np.ndarray, phases_deg: np.ndarray) -> np.ndarray:
+    """:func:`_synthesise` on each sampling era, so each era keeps the fast regular-grid paths."""
+    increasing = d.shape[0] < 2 or bool(np.all(d[1:] > d[:-1]))
+    segments = _era_segments(d) if d.shape[0] >= _REGULAR_MIN and increasing else [(0, d.shape[0], 0.0)]
+    if len(segments) == 1:
+        return _synthesise(d, basis, amplitudes_m, phases_deg)
+    return np.concatenate([_synthesise(d[a:b], basis, amplitudes_m, phases_deg) for a, b, _ in segments])
+
+
 def predict_tide(times, names, amplitudes_m, phases_deg, *, z0_m: float = 0.0) -> np.ndarray:
     r"""Tide synthesised from harmonic constants (Greenwich phase lags, UTC), nodal corrections at each time.
 
@@ -240,7 +266,7 @@ def predict_tide(times, names, amplitudes_m, phases_deg, *, z0_m: float = 0.0) -
     d = days_since_epoch(times)
     if not names:
         return np.full(d.shape[0], float(z0_m))
-    return _synthesise(d, _Basis(names), amplitudes_m, phases_deg) + float(z0_m)
+    return _synthesise_by_era(d, _Basis(names), amplitudes_m, phases_deg) + float(z0_m)
 
 
 
@@ -620,6 +646,9 @@ ho (f_i/f_r)`-weighted columns to r's pair (constrained-column form), so the fit
     y = values.to_numpy(dtype=float)
     span_hours = (d[-1] - d[0]) * 24.0
     sampling_hours = float(np.median(np.diff(d))) * 24.0
+    segments = _era_segments(d)
+    if len(segments) > 1:  # the coarsest era sets the Nyquist speed (no constituent aliased in any era)
+        sampling_hours = max(iv for _, _, iv in segments) * 24.0
     if span_hours <= 0:
         raise DataError("level_m: all valid samples at one time; expected a record spanning at least a day")
     nyquist = 180.0 / sampling_hours
@@ -671,14 +700,23 @@ ho (f_i/f_r)`-weighted columns to r's pair (constrained-column form), so the fit
     delta = np.array([inference[i][2] for i in inferred]) * _RAD
     d_mid = 0.5 * (d[0] + d[-1])
 
-    grid = _GridBlocks.of(d, basis)  # samples on a regular grid (gaps allowed): phases by blocks
+    # sampling eras: each sample weighted by the time it represents (its era's interval, METHODS sec. 14),
+    # each era on its own grid blocks
+    if len(segments) > 1:
+        span_w = np.array([iv for _, _, iv in segments])
+        counts = np.array([b - a for a, b, _ in segments], dtype=float)
+        seg_weight = span_w * counts.sum() / float(np.dot(span_w, counts))  # mean weight 1 per sample
+        logger.info("harmonic analysis over %d sampling eras, samples weighted by their interval", len(segments))
+    else:
+        seg_weight = np.ones(1)
+    grids = [_GridBlocks.of(d[a:b], basis) for a, b, _ in segments]  # regular grid (gaps allowed): block phases
 
-    def design(sl: slice) -> np.ndarray:
-        rows = d[sl].shape[0]
+    def design(sl: slice, grid, d_seg) -> np.ndarray:
+        rows = d_seg[sl].shape[0]
         x = np.empty((rows, n_par), order="F")
         x[:, 0] = 1.0
         if trend:
-            x[:, 1] = (d[sl] - d_mid) / _DAYS_PER_YEAR
+            x[:, 1] = (d_seg[sl] - d_mid) / _DAYS_PER_YEAR
         c_block = x[:, n_lead:n_lead + m_fit]
         s_block = x[:, n_lead + m_fit:]
         if grid is not None:
@@ -686,7 +724,7 @@ ho (f_i/f_r)`-weighted columns to r's pair (constrained-column form), so the fit
             if inferred:
                 ci, si = grid.cos_sin(sl, slice(m_fit, None))
         else:
-            phase, f = basis.phase_and_f(d[sl])
+            phase, f = basis.phase_and_f(d_seg[sl])
             np.cos(phase[:, :m_fit], out=c_block)
             c_block *= f[:, :m_fit]
             np.sin(phase[:, :m_fit], out=s_block)
@@ -701,13 +739,15 @@ ho (f_i/f_r)`-weighted columns to r's pair (constrained-column form), so the fit
 
     xtx = np.zeros((n_par, n_par))
     xty = np.zeros(n_par)
-    for start in range(0, n, chunk_size):
-        sl = slice(start, start + chunk_size)
-        x = design(sl)
-        upper = scipy.linalg.blas.dsyrk(1.0, x, trans=1)  # X^T X, upper triangle (half the work of gemm)
-        xtx += np.triu(upper) + np.triu(upper, 1).T
-        xty += x.T @ y[sl]
-        del x
+    for (first, stop, _), grid, weight in zip(segments, grids, seg_weight):
+        d_seg, y_seg = d[first:stop], y[first:stop]
+        for start in range(0, stop - first, chunk_size):
+            sl = slice(start, start + chunk_size)
+            x = design(sl, grid, d_seg)
+            upper = scipy.linalg.blas.dsyrk(float(weight), x, trans=1)  # w X^T X, upper triangle
+            xtx += np.triu(upper) + np.triu(upper, 1).T
+            xty += weight * (x.T @ y_seg[sl])
+            del x
     scale = np.sqrt(np.diag(xtx))
     if np.any(scale == 0):
         raise FitError("harmonic analysis: a design column is all zero")
@@ -739,8 +779,9 @@ ho (f_i/f_r)`-weighted columns to r's pair (constrained-column form), so the fit
     amp_all = np.concatenate([amp, ratio * amp[ref_index]])
     pha_all = np.concatenate([pha, (pha[ref_index] + np.rad2deg(delta)) % 360.0])
     # residual by synthesis (one cosine per constituent, no design matrix): equal to y - X beta
-    resid = y - z0 - (grid.synthesise(amp_all, pha_all) if grid is not None
-                      else _synthesise(d, basis, amp_all, pha_all))
+    resid = y - z0 - np.concatenate([
+        grid.synthesise(amp_all, pha_all) if grid is not None else _synthesise(d[a:b], basis, amp_all, pha_all)
+        for (a, b, _), grid in zip(segments, grids)])
     if trend:
         resid -= trend_value * (d - d_mid) / _DAYS_PER_YEAR
     dof = n - n_par

@@ -215,19 +215,23 @@ def analyse_record_tide(quality_report, *, epoch_year: float | None = None, cons
     annual, trend, epoch, level_epoch = _mean_sea_level(quality_report.level_m, epoch_year, notes)
 
     stage("tide")
-    model = analyse_tide(level_epoch, constituents=constituents, rayleigh=rayleigh, infer=infer)
+    # spans with a detected, uncorrected clock fault stay out of the tide and surge statistics (named in a
+    # warning); their levels stay in the level series
+    clock_fault = quality_report.clock_fault_mask(level_epoch.index)
+    quality_report.warn_clock_faults()
+    model = analyse_tide(level_epoch.where(~clock_fault), constituents=constituents, rayleigh=rayleigh, infer=infer)
     residual = surge.non_tidal_residual(level_epoch, model)
     checked = quality_report.with_residual_spikes(residual)
     keep = checked.level_m.reindex(level_epoch.index).notna()
     level_epoch = level_epoch.where(keep)
-    residual = residual.where(keep)
+    residual = residual.where(keep & ~clock_fault)
     datums = tide_datums.tidal_datums(model, include_radiational=include_radiational)
     form = tide_datums.form_factor(model)
 
     stage("surge")
     pad = pd.Timedelta(hours=_TURNING_PAD_HOURS)
     turning_record = tide_datums.high_low_waters(model, level_epoch.index[0] - pad, level_epoch.index[-1] + pad)
-    skew = surge.skew_surges_from_turning_points(level_epoch, turning_record)
+    skew = surge.skew_surges_from_turning_points(level_epoch.where(~clock_fault), turning_record)
     interaction = surge.interaction_tests_from_series(
         residual, turning_record.loc[turning_record["kind"] == "high", "time"], skew)
     epoch_time = timestamp_of_decimal_year(epoch)

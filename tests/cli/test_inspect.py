@@ -82,3 +82,53 @@ def test_missing_file_and_folder_exit_1(tmp_path):
     for bad in (tmp_path / "absent.csv", tmp_path):
         result = run(bad)
         assert result.exit_code == 1 and str(bad.name) in result.output and "Traceback" not in result.output
+
+
+def test_write_corrections_draft_and_read_it_back(tmp_path):
+    # two years of hourly levels of a simple tide, 0.15 m higher from mid-2021 (a datum step)
+    times = pd.date_range("2020-01-01", "2021-12-31 23:00", freq="h", tz="UTC")
+    hours = np.arange(times.size, dtype=float)
+    rng = np.random.default_rng(3)
+    level = 2 + np.cos(2 * np.pi * hours / 12.4206) + 0.05 * rng.standard_normal(times.size)
+    level[times >= "2021-01-01"] += 0.15
+    record = tmp_path / "g.csv"
+    pd.DataFrame({"time": times.strftime("%Y-%m-%dT%H:%MZ"), "level": level.round(3)}).to_csv(record, index=False)
+    draft = tmp_path / "draft.csv"
+    result = run(record, "--write-corrections", draft)
+    assert result.exit_code == 0, result.output
+    assert "draft corrections written" in result.stdout and "DETECTED" in draft.read_text()
+    again = run(record, "--write-corrections", draft)
+    assert again.exit_code == 1 and "--overwrite" in again.output
+    # the draft, as written, is accepted back and removes the step
+    fixed = run(record, "--corrections", draft, "--json")
+    assert fixed.exit_code == 0, fixed.output
+    document = json.loads(fixed.stdout)
+    assert document["datum_shift_candidates"] == [] and len(document["corrections"]) == len(
+        [line for line in draft.read_text().splitlines() if line and not line.startswith(("#", "start"))])
+
+
+def test_bad_corrections_file_is_one_line_naming_the_line(gauge_csv, tmp_path):
+    bad = tmp_path / "fix.csv"
+    bad.write_text("start,end,add_m,shift_minutes\n2021-03-01T00:00Z,,zero,0\n")
+    result = run(gauge_csv, "--units", "cm", "--utc-offset", "+10:00", "--corrections", bad)
+    assert result.exit_code == 1 and "Traceback" not in result.output
+    assert f"{bad}, line 2" in result.output and len(result.output.strip().splitlines()) == 1
+
+
+def test_summary_lists_the_longest_gaps_of_the_whole_record(tmp_path):
+    # 300 short gaps first, the longest outage last: it must head the list
+    times = pd.date_range("2020-01-01", "2020-12-31 23:00", freq="h", tz="UTC")
+    keep = np.ones(times.size, dtype=bool)
+    keep[np.arange(10, 300 * 24, 24)] = False
+    keep[(times >= "2020-11-01") & (times < "2020-12-10")] = False
+    path = tmp_path / "g.csv"
+    hours = np.arange(times.size, dtype=float)
+    pd.DataFrame({"time": times[keep].strftime("%Y-%m-%dT%H:%MZ"),
+                  "level": np.round(np.cos(2 * np.pi * hours[keep] / 12.42), 3)}).to_csv(path, index=False)
+    result = run(path)
+    assert result.exit_code == 0, result.output
+    lines = result.stdout.splitlines()
+    head = lines[[i for i, line in enumerate(lines) if "the longest:" in line][0] + 1]
+    assert "2020-11-01T00:00:00Z to 2020-12-09T23:00:00Z" in head and "(936.0 h)" in head
+    document = json.loads(run(path, "--json").stdout)
+    assert document["n_gaps"] == 301 and len(document["gaps"]) == 301
