@@ -142,7 +142,7 @@ class _Noise:
     phi_year: float
 
     @staticmethod
-    def fit(residual: np.ndarray, month_number: np.ndarray) -> "_Noise":
+    def fit(residual: np.ndarray, month_number: np.ndarray) -> _Noise:
         year = month_number // 12
         years, inverse, counts = np.unique(year, return_inverse=True, return_counts=True)
         annual = np.bincount(inverse, weights=residual) / counts

@@ -2,10 +2,9 @@
 from __future__ import annotations
 
 import json
+from pathlib import Path
 
 import click
-
-from pathlib import Path
 
 from extremes.cli.options import json_option, overwrite_option, reader_options, record_argument
 
