@@ -75,7 +75,7 @@ class _Stages:
 
 
 def run_study(record_path, *, reader: dict | None = None, options: StudyOptions | None = None,
-              progress: Callable[[str], None] | None = None):
+              progress: Callable[[str], None] | None = None, hourly_check: bool = True):
     """Run the whole study on the record in file ``record_path``.
 
     Parameters
@@ -88,6 +88,8 @@ def run_study(record_path, *, reader: dict | None = None, options: StudyOptions 
         The study's choices; defaults as documented in :class:`StudyOptions`.
     progress : callable, optional
         Called with the name of each stage as it starts.
+    hourly_check : bool, keyword-only
+        Run the hourly joint-probability comparison method (False: left out, as for model points).
 
     Returns
     -------
@@ -106,11 +108,13 @@ def run_study(record_path, *, reader: dict | None = None, options: StudyOptions 
     stages.start("read")
     reader = {k: v for k, v in (reader or {}).items() if v is not None}
     record = records.read_record(record_path, **reader)
-    return run_study_record(record, options=options, progress=progress, reader=reader, _stages=stages)
+    return run_study_record(record, options=options, progress=progress, reader=reader, _stages=stages,
+                            hourly_check=hourly_check)
 
 
 def run_study_series(level_m: pd.Series, *, datum: str = "unspecified", source: str = "<series>",
-                     options: StudyOptions | None = None, progress: Callable[[str], None] | None = None):
+                     options: StudyOptions | None = None, progress: Callable[[str], None] | None = None,
+                     hourly_check: bool = True):
     """Run the whole study on an in-memory series (e.g. one point of a gridded model output).
 
     Parameters
@@ -140,7 +144,7 @@ def run_study_series(level_m: pd.Series, *, datum: str = "unspecified", source: 
                             + series.index.asi8.tobytes()).hexdigest()
     record = GaugeRecord(water_level_m=series, datum=datum, source=source, sha256=digest,
                          interval=interval, meta={"format": "in-memory series"})
-    return run_study_record(record, options=options, progress=progress)
+    return run_study_record(record, options=options, progress=progress, hourly_check=hourly_check)
 
 
 def _excluded_readings_note(record, qc) -> str | None:
@@ -172,8 +176,9 @@ def _valid_record_years(record, qc) -> float:
 
 def run_study_record(record, *, options: StudyOptions | None = None,
                      progress: Callable[[str], None] | None = None, reader: dict | None = None,
-                     _stages: _Stages | None = None):
-    """Run the study on a :class:`extremes.records.GaugeRecord` already read.
+                     _stages: _Stages | None = None, hourly_check: bool = True):
+    """Run the study on a :class:`extremes.records.GaugeRecord` already read (``hourly_check``: see
+    :func:`run_study`).
 
     The stages, each one library call: :func:`extremes.quality.check_record`,
     :func:`extremes.tide.stage.analyse_record_tide`, the direct methods
@@ -214,7 +219,10 @@ def run_study_record(record, *, options: StudyOptions | None = None,
         )
         curves["skew-surge-joint-probability"] = ssjpm.curve
         method_details["skew-surge-joint-probability"] = ssjpm
-        _classic_method(joint, tide, options, common, curves, method_details, notes)
+        if hourly_check:
+            _classic_method(joint, tide, options, common, curves, method_details, notes)
+        else:
+            notes.append("joint-probability (hourly) left out: a comparison method, skipped for model points")
         comparison = joint.compare_methods(curves, record_years=record_years, interaction=tide.interaction,
                                            periods_years=options.periods_years)
 

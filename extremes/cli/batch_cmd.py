@@ -1,7 +1,6 @@
 """``extremes batch``: one study per record (or per point of a gridded model output) on dask."""
 from __future__ import annotations
 
-import functools
 import json
 import sys
 from pathlib import Path
@@ -29,16 +28,20 @@ from extremes.cli import options
               help="Worker processes of the local cluster (default: one per CPU).")
 @click.option("--figures/--no-figures", default=True, show_default=True,
               help="Draw each station's figures and HTML report (--no-figures: numbers and tables only).")
+@click.option("--model-points", "model_points", is_flag=True,
+              help="Model-point mode: no hourly check method, no per-station figures or report; the same "
+                   "recommended levels, several times faster (for gridded model output).")
 @options.overwrite_option
 @click.option("--progress/--no-progress", "show_progress", default=None,
               help="Show a progress bar on stderr (default: only on a terminal).")
 @options.json_option
 @click.pass_context
 def command(ctx, records, out_dir, manifest, gridded, block_size, reader, config, study, scheduler, workers,
-            figures, overwrite, show_progress, as_json):
+            figures, model_points, overwrite, show_progress, as_json):
     """Run the whole study on every RECORD (files or glob patterns), on every record of a --manifest and on
     every point of --gridded model output, one dask task per record (per block of points), and write one
-    folder per station under --out with a summary of all.
+    folder per station under --out with a summary of all (summary.csv, summary.nc and the page
+    summary.html with the view along the coast).
 
     A station whose folder already holds complete results is skipped unless --overwrite. A failing station
     gets its error in the summary and the others go on; the exit status is 1 when any station failed.
@@ -72,11 +75,11 @@ def command(ctx, records, out_dir, manifest, gridded, block_size, reader, config
         bar.set_postfix_str(name[:30], refresh=False)
         bar.update(done - bar.n)
 
-    per_station = batch.study_station if figures else functools.partial(batch.study_station, figures=False)
+    settings = batch.BatchSettings(mode="points" if model_points else "full", figures=figures, scheduler=scheduler,
+                                   workers=workers, overwrite=overwrite, errors="ignore")
     try:
-        summary = batch.run_batch(stations, out_dir=out_dir, options=study_options, scheduler=scheduler,
-                                  workers=workers, overwrite=overwrite, progress=progress, study=per_station,
-                                  errors="ignore")
+        summary = batch.run_batch(stations, out_dir=out_dir, options=study_options, settings=settings,
+                                  progress=progress)
     finally:
         bar.close()
 
@@ -85,12 +88,15 @@ def command(ctx, records, out_dir, manifest, gridded, block_size, reader, config
     else:
         frame = summary.to_frame()
         click.echo(f"{len(frame)} stations: {summary.n_ok} ok ({summary.n_skipped} from earlier runs), "
-                   f"{summary.n_failed} failed; summary in {summary.out_dir / 'summary.csv'}")
+                   f"{summary.n_failed} failed; summary in {summary.out_dir / 'summary.csv'}, page "
+                   f"{summary.out_dir / 'summary.html'}")
         width = max(7, *(len(s) for s in frame["station"]))
-        click.echo(f"{'station':<{width}}  {'method':<28}  {'100-yr level [m]':>16}  status")
+        click.echo(f"{'station':<{width}}  {'method':<28}  {'100-yr level [m]':>16}  {'verdict':<10}  "
+                   f"{'neighbours':<12}  status")
         for row in frame.itertuples(index=False):
             level = "" if row.level_100_m != row.level_100_m else f"{row.level_100_m:.3f}"
-            click.echo(f"{row.station:<{width}}  {row.recommended_method:<28}  {level:>16}  {row.status}")
+            click.echo(f"{row.station:<{width}}  {row.recommended_method:<28}  {level:>16}  "
+                       f"{row.assessment or '-':<10}  {row.consistency:<12}  {row.status}")
     if summary.n_failed:
         for outcome in summary.outcomes:
             if outcome["status"] != "ok":

@@ -15,6 +15,9 @@ References
 """
 from __future__ import annotations
 
+import contextlib
+import contextvars
+import hashlib
 import json
 import logging
 import warnings
@@ -173,6 +176,19 @@ class _GridBlocks:
         fc, fs = self.fc[b, columns], self.fs[b, columns]
         ec, es = self.ec[r, columns], self.es[r, columns]
         return fc * ec - fs * es, fs * ec + fc * es
+
+    def project(self, y: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        r"""Sums :math:`\sum_t f_j\cos\phi_j(t)\,y_t` and :math:`\sum_t f_j\sin\phi_j(t)\,y_t` over the samples.
+
+        The same numbers as the design columns of :meth:`cos_sin` times ``y``, summed block by block:
+        :math:`\sum_b [fc_b (Y E_c)_b - fs_b (Y E_s)_b]` with :math:`Y` the samples laid out by block and
+        offset, so no design matrix is built.
+        """
+        grid = np.zeros((self.fc.shape[0], self.per_block))
+        grid[self.k // self.per_block, self.k % self.per_block] = y
+        a, b = grid @ self.ec, grid @ self.es
+        return np.einsum("bj,bj->j", self.fc, a) - np.einsum("bj,bj->j", self.fs, b), \
+            np.einsum("bj,bj->j", self.fs, a) + np.einsum("bj,bj->j", self.fc, b)
 
     def synthesise(self, amplitudes_m: np.ndarray, phases_deg: np.ndarray) -> np.ndarray:
         n_grid = int(self.k[-1]) + 1
@@ -579,6 +595,37 @@ def _band_variances(d: np.ndarray, resid: np.ndarray, bands: np.ndarray) -> tupl
     return out, "band-averaged residual spectrum"
 
 
+_SHARED_DESIGN: contextvars.ContextVar = contextvars.ContextVar("extremes_shared_tide_design", default=None)
+
+
+@contextlib.contextmanager
+def shared_design():
+    """Within this context, analyses of series on the same valid sample times share their normal matrix.
+
+    Points of a gridded model output usually share their time axis: the normal matrix :math:`X^TX` of the
+    least-squares fit (and the phases of its regular grid) are then built once, and each further series
+    only needs :math:`X^Ty` (:meth:`_GridBlocks.project`). The fit is the same to floating-point rounding.
+    Only the last design is kept (memory ~ one design's block phases).
+    """
+    token = _SHARED_DESIGN.set({})
+    try:
+        yield
+    finally:
+        _SHARED_DESIGN.reset(token)
+
+
+def _projected_xty(grid, y, d, d_mid, trend, m_fit, ref_index, ratio, delta) -> np.ndarray:
+    """:math:`X^Ty` of :func:`analyse_tide`'s design from the grid blocks, without building the design."""
+    c, s = grid.project(y)
+    cos_part, sin_part = c[:m_fit].copy(), s[:m_fit].copy()
+    for q, r in enumerate(ref_index):  # the constrained columns of the inferred constituents
+        cd, sd = np.cos(delta[q]) * ratio[q], np.sin(delta[q]) * ratio[q]
+        cos_part[r] += c[m_fit + q] * cd + s[m_fit + q] * sd
+        sin_part[r] += s[m_fit + q] * cd - c[m_fit + q] * sd
+    lead = [y.sum()] + ([((d - d_mid) / _DAYS_PER_YEAR) @ y] if trend else [])
+    return np.concatenate([lead, cos_part, sin_part])
+
+
 def analyse_tide(level_m, *, constituents="auto", rayleigh: float = 1.0, infer=True, trend: bool = False,
                  chunk_size: int = CHUNK) -> TideModel:
     r"""Least-squares harmonic analysis of a water-level record.
@@ -700,6 +747,12 @@ ho (f_i/f_r)`-weighted columns to r's pair (constrained-column form), so the fit
     delta = np.array([inference[i][2] for i in inferred]) * _RAD
     d_mid = 0.5 * (d[0] + d[-1])
 
+    # a design shared by the points of a model block (shared_design), when the record has one sampling era
+    shared = _SHARED_DESIGN.get()
+    key = None if shared is None or len(segments) > 1 else (
+        hashlib.sha1(d.tobytes()).hexdigest(), tuple(all_names), trend, ref_index.tobytes(), ratio.tobytes(),
+        delta.tobytes())
+    reused = shared.get(key) if key is not None else None
     # sampling eras: each sample weighted by the time it represents (its era's interval, METHODS sec. 14),
     # each era on its own grid blocks
     if len(segments) > 1:
@@ -709,7 +762,8 @@ ho (f_i/f_r)`-weighted columns to r's pair (constrained-column form), so the fit
         logger.info("harmonic analysis over %d sampling eras, samples weighted by their interval", len(segments))
     else:
         seg_weight = np.ones(1)
-    grids = [_GridBlocks.of(d[a:b], basis) for a, b, _ in segments]  # regular grid (gaps allowed): block phases
+    # regular grid (gaps allowed): block phases
+    grids = [reused[0]] if reused is not None else [_GridBlocks.of(d[a:b], basis) for a, b, _ in segments]
 
     def design(sl: slice, grid, d_seg) -> np.ndarray:
         rows = d_seg[sl].shape[0]
@@ -737,17 +791,23 @@ ho (f_i/f_r)`-weighted columns to r's pair (constrained-column form), so the fit
             s_block[:, r] += si[:, q] * cd - ci[:, q] * sd
         return x
 
-    xtx = np.zeros((n_par, n_par))
-    xty = np.zeros(n_par)
-    for (first, stop, _), grid, weight in zip(segments, grids, seg_weight):
-        d_seg, y_seg = d[first:stop], y[first:stop]
-        for start in range(0, stop - first, chunk_size):
-            sl = slice(start, start + chunk_size)
-            x = design(sl, grid, d_seg)
-            upper = scipy.linalg.blas.dsyrk(float(weight), x, trans=1)  # w X^T X, upper triangle
-            xtx += np.triu(upper) + np.triu(upper, 1).T
-            xty += weight * (x.T @ y_seg[sl])
-            del x
+    if reused is not None and grids[0] is not None:
+        xtx, xty = reused[1], _projected_xty(grids[0], y, d, d_mid, trend, m_fit, ref_index, ratio, delta)
+    else:
+        xtx = np.zeros((n_par, n_par))
+        xty = np.zeros(n_par)
+        for (first, stop, _), grid, weight in zip(segments, grids, seg_weight):
+            d_seg, y_seg = d[first:stop], y[first:stop]
+            for start in range(0, stop - first, chunk_size):
+                sl = slice(start, start + chunk_size)
+                x = design(sl, grid, d_seg)
+                upper = scipy.linalg.blas.dsyrk(float(weight), x, trans=1)  # w X^T X, upper triangle
+                xtx += np.triu(upper) + np.triu(upper, 1).T
+                xty += weight * (x.T @ y_seg[sl])
+                del x
+        if key is not None and grids[0] is not None:
+            shared.clear()
+            shared[key] = (grids[0], xtx)
     scale = np.sqrt(np.diag(xtx))
     if np.any(scale == 0):
         raise FitError("harmonic analysis: a design column is all zero")
@@ -827,4 +887,5 @@ ho (f_i/f_r)`-weighted columns to r's pair (constrained-column form), so the fit
     )
 
 
-__all__ = ["predict_tide", "analyse_tide", "TideModel", "FittedConstituent", "WEAK_AMPLITUDE_RATIO"]
+__all__ = ["predict_tide", "analyse_tide", "shared_design", "TideModel", "FittedConstituent",
+           "WEAK_AMPLITUDE_RATIO"]
