@@ -104,7 +104,7 @@ def coast_order(lat, lon, chainage, *, placed=None) -> CoastOrder:
         idx = np.flatnonzero(known)[chain]
         order = np.concatenate([idx, np.flatnonzero(~known)])
         along = np.full(n, np.nan)
-        along[idx] = along_chain
+        along[known] = along_chain
         return CoastOrder(_ranks(order), tuple(float(v) for v in along), "position")
     return CoastOrder(tuple(range(n)), tuple(float(i) for i in range(n)), "as given")
 

@@ -201,8 +201,9 @@ def run_item(item, *, study, options, base_seed: int, out_dir: Path, overwrite: 
     normal matrix (:func:`extremes.tide.harmonic.shared_design`), built once per block.
     """
     kwargs = dict(study=study, options=options, base_seed=base_seed, out_dir=out_dir, overwrite=overwrite)
+    worker = _worker_name()
     if isinstance(item, Station):
-        return [run_station(item, **kwargs)]
+        return [dict(run_station(item, **kwargs), worker=worker)]
     points = item.stations()
     outcomes: dict[int, dict] = {}
     todo = []
@@ -225,7 +226,17 @@ def run_item(item, *, study, options, base_seed: int, out_dir: Path, overwrite: 
             with shared_design() if share_tide_design else contextlib.nullcontext():
                 for k, level in zip(todo, series):
                     outcomes[k] = run_station(dataclasses.replace(points[k], level_m=level), **kwargs)
-    return [outcomes[k] for k in range(len(points))]
+    return [dict(outcomes[k], worker=worker) for k in range(len(points))]
+
+
+def _worker_name() -> str:
+    """The dask worker running this task (its address), or this process when run outside dask."""
+    try:
+        from distributed import get_worker
+
+        return str(get_worker().address)
+    except (ImportError, ValueError):
+        return f"process {os.getpid()}"
 
 
 def stations_of(item: Station | GriddedBlock) -> list[Station]:
