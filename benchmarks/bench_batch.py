@@ -1,9 +1,21 @@
 """Throughput of ``extremes batch``: stations per minute with 1 and 2 workers, peak memory per worker, and
-the cost per station against one in-process study of the same record (goal: within 15 %).
+the cost per station against one in-process study of the same record (goal: within 15 %); and the
+model-point mode on a gridded file (goal: a file of 1,000 points of 30 years hourly at <= 1.5 s per point
+on the 2-core development machine), with its cost split by stage.
 
     python benchmarks/bench_batch.py                      # 200 stations of 20 years hourly, full study
     python benchmarks/bench_batch.py --stations 20 --years 10
     python benchmarks/bench_batch.py --study light        # dask overhead only: a Gumbel fit per station
+    nice python benchmarks/bench_batch.py --points 24 --years 30 --block-size 12   # model points
+
+``--points N`` writes a gridded NetCDF file of N points (hourly, ``--years`` long, one shared time axis,
+as model output is), studies one point by the full study in process (no figures) for reference, then the
+file through the batch in the model-point mode with 1 and 2 workers. Its table: wall time per point, the
+CPU time the workers spent per point (core-seconds: what a point costs whatever else runs on the machine),
+the projection to 1,000 points, and the split of a point's cost by stage (the study's own stage timers; the
+rest is reading, writing and the task). Points are independent and a block's first point pays for the
+tide design its other points share, so the cost per point is flat in the number of points once blocks
+hold a few points: a run of a few dozen points measures the per-point cost of 1,000.
 
 ``--study full`` is the whole study (extremes.batch.study_station); ``--study light`` reads the record with
 pandas and fits a Gumbel distribution to the annual maxima (scipy), to measure the cost the batch adds
@@ -72,6 +84,76 @@ def _peak_rss_mb() -> float:
     return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
 
 
+def _cpu_seconds() -> float:
+    usage = resource.getrusage(resource.RUSAGE_SELF)
+    return usage.ru_utime + usage.ru_stime
+
+
+def write_gridded(path: Path, n_points: int, years: float) -> None:
+    """Synthetic model output: hourly tides of five constituents varying along a coast, shared storms, noise."""
+    import xarray as xr
+
+    times = pd.date_range("1994-01-01", periods=int(years * 365.25 * 24), freq="h")
+    hours = np.arange(times.size)
+    rng = np.random.default_rng(0)
+    storms = np.convolve(rng.gumbel(0.0, 0.03, times.size), np.ones(24) / 6, mode="same")
+    level = np.empty((times.size, n_points), dtype="float32")
+    speeds = (28.9841042, 30.0, 15.0410686, 13.9430356, 28.4397295)  # M2 S2 K1 O1 N2 [deg/h] (Schureman 1958)
+    for j in range(n_points):
+        amps = np.array((1.0, 0.35, 0.2, 0.15, 0.08)) * (0.8 + 0.4 * j / max(n_points - 1, 1))
+        tide = sum(a * np.cos(np.deg2rad(sp * hours - 3.0 * j - 40 * k)) for k, (a, sp) in enumerate(zip(amps, speeds)))
+        level[:, j] = 100 * (tide + storms * (1 + 0.2 * j / max(n_points - 1, 1)) + rng.normal(0, 0.01, times.size))
+    xr.Dataset({"zeta": (("time", "node"), level, {"units": "cm", "standard_name": "sea_surface_height"})},
+               coords={"time": times, "lat": ("node", np.linspace(-40.0, -41.0, n_points)),
+                       "lon": ("node", np.linspace(172.0, 173.0, n_points)),
+                       "chainage": ("node", np.arange(n_points) * 5.0)}).to_netcdf(path, engine="netcdf4")
+
+
+def bench_points(args, work: Path) -> None:
+    """The model-point mode on a gridded file: per-point cost by stage, 1 and 2 workers."""
+    from extremes.study_options import StudyOptions
+
+    path = work / "model.nc"
+    t0 = time.perf_counter()
+    write_gridded(path, args.points, args.years)
+    print(f"wrote {args.points} points of {args.years:g} years hourly in {time.perf_counter() - t0:.1f} s")
+    options = StudyOptions()
+    blocks = batch.gridded_blocks(path, block_size=args.block_size, datum="model datum")
+    first = blocks[0].stations()[0]
+    series = batch.block_series(blocks[0], [blocks[0].indices[0]])[0]
+    point = batch.Station(name=first.name, level_m=series, datum=first.datum, source=first.source)
+    (work / "ref").mkdir()
+    t0, c0 = time.perf_counter(), _cpu_seconds()
+    batch.study_station(point, options=options, seed=1, out_dir=work / "ref" / "full", figures=False)
+    full_wall, full_cpu = time.perf_counter() - t0, _cpu_seconds() - c0
+    print(f"full study of one point in process, no figures: {full_wall:.2f} s wall, {full_cpu:.2f} s CPU")
+
+    print(f"\n{'workers':>7} {'wall_s':>7} {'s/point':>8} {'core_s/point':>12} {'1000 points':>12} "
+          f"{'failed':>6} {'peak_MB/worker':>16}")
+    stages = None
+    for n_workers in [int(w) for w in args.workers.split(",")]:
+        with batch.dask_client(workers=n_workers) as client:
+            client.wait_for_workers(n_workers)
+            before = client.run(_cpu_seconds)
+            t1 = time.perf_counter()
+            summary = batch.run_batch(blocks, out_dir=work / f"points_{n_workers}", options=options, client=client,
+                                      settings=batch.BatchSettings(mode="points", errors="ignore"))
+            wall = time.perf_counter() - t1
+            after, peaks = client.run(_cpu_seconds), client.run(_peak_rss_mb)
+        core = sum(after[w] - before[w] for w in after) / args.points
+        per_point = wall / args.points
+        print(f"{n_workers:>7} {wall:>7.1f} {per_point:>8.2f} {core:>12.2f} {per_point * 1000 / 60:>9.1f} min "
+              f"{summary.n_failed:>6} {', '.join(f'{v:.0f}' for v in peaks.values()):>16}")
+        stages = summary.outcomes
+    rows = [o for o in stages if o["status"] == "ok"]
+    names = list(dict.fromkeys(k for o in rows for k in o["stage_seconds"]))
+    split = {k: float(np.mean([o["stage_seconds"].get(k, 0.0) for o in rows])) for k in names}
+    total = float(np.mean([o["seconds"] for o in rows]))
+    split["read, write and task"] = total - sum(split.values())
+    print(f"\ncost of a point by stage (last run, mean wall time in the task, {len(rows)} points): "
+          + ", ".join(f"{k} {v:.2f} s ({100 * v / total:.0f} %)" for k, v in split.items()) + f"; total {total:.2f} s")
+
+
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--stations", type=int, default=200)
@@ -81,7 +163,16 @@ def main() -> None:
     parser.add_argument("--inprocess", type=int, default=3, help="records timed in process for the reference")
     parser.add_argument("--no-figures", action="store_true", help="full study without figures and HTML report")
     parser.add_argument("--data", type=Path, help="folder to keep the synthetic records in (reused if present)")
+    parser.add_argument("--points", type=int, help="model-point mode on a gridded file of this many points")
+    parser.add_argument("--block-size", type=int, default=12, help="points per task of the gridded file")
     args = parser.parse_args()
+    if args.points:
+        work = Path(tempfile.mkdtemp(prefix="bench_batch_"))
+        try:
+            bench_points(args, work)
+        finally:
+            shutil.rmtree(work, ignore_errors=True)
+        return
 
     if args.study == "full":
         from extremes.study_options import StudyOptions
@@ -124,7 +215,7 @@ def main() -> None:
             startup = time.perf_counter() - t0
             t1 = time.perf_counter()
             summary = batch.run_batch(stations, out_dir=out, options=options, study=study, client=client,
-                                      errors="ignore")
+                                      settings=batch.BatchSettings(errors="ignore", summary_page=False))
             wall = time.perf_counter() - t1
             peaks = client.run(_peak_rss_mb)
         per_station = wall * n_workers / len(stations)

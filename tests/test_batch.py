@@ -223,7 +223,8 @@ def test_failure_isolation_resume_and_summaries(tmp_path, records, local_cluster
     stations = batch.stations_from_paths([good[0], bad, good[1], good[2]], reader={"datum": "CD"})
     options = OptionsForTests()
     with pytest.warns(ExtremesWarning, match="1 of 4 stations failed"):
-        first = batch.run_batch(stations, out_dir=tmp_path / "out", options=options, study=station_study_for_tests, settings=batch.BatchSettings(scheduler=local_cluster.scheduler_address))
+        first = batch.run_batch(stations, out_dir=tmp_path / "out", options=options, study=station_study_for_tests,
+                                settings=batch.BatchSettings(scheduler=local_cluster.scheduler_address))
     assert [o["station"] for o in first.outcomes] == ["st0", "broken", "st1", "st2"]
     assert (first.n_ok, first.n_failed, first.n_skipped) == (3, 1, 0)
     status = {o["station"]: o["status"] for o in first.outcomes}
@@ -254,17 +255,21 @@ def test_failure_isolation_resume_and_summaries(tmp_path, records, local_cluster
 
     # second run: done stations are skipped and counted, the broken one is tried again
     (tmp_path / "out" / "st2" / "results.json").write_text("{\"truncated")  # an incomplete station folder
-    second = batch.run_batch(stations, out_dir=tmp_path / "out", options=options, study=station_study_for_tests, settings=batch.BatchSettings(scheduler=local_cluster.scheduler_address, errors="ignore"))
+    second = batch.run_batch(stations, out_dir=tmp_path / "out", options=options, study=station_study_for_tests,
+                             settings=batch.BatchSettings(scheduler=local_cluster.scheduler_address, errors="ignore"))
     assert second.n_skipped == 2 and second.n_failed == 1
     assert [o["skipped"] for o in second.outcomes] == [True, False, True, False]
     pd.testing.assert_frame_equal(_numbers(second.to_frame()), _numbers(first.to_frame()))
 
     # --overwrite studies everything again
-    third = batch.run_batch(stations, out_dir=tmp_path / "out", options=options, study=station_study_for_tests, settings=batch.BatchSettings(scheduler=local_cluster.scheduler_address, errors="ignore", overwrite=True))
+    third = batch.run_batch(stations, out_dir=tmp_path / "out", options=options, study=station_study_for_tests,
+                            settings=batch.BatchSettings(
+                                scheduler=local_cluster.scheduler_address, errors="ignore", overwrite=True))
     assert third.n_skipped == 0 and third.n_ok == 3
 
     with pytest.raises(DataError, match="station broken: ValueError"):
-        batch.run_batch(stations, out_dir=tmp_path / "out", options=options, study=station_study_for_tests, settings=batch.BatchSettings(scheduler=local_cluster.scheduler_address, errors="raise"))
+        batch.run_batch(stations, out_dir=tmp_path / "out", options=options, study=station_study_for_tests,
+                        settings=batch.BatchSettings(scheduler=local_cluster.scheduler_address, errors="raise"))
 
 
 def test_summary_netcdf_is_cf_with_station_dimension(tmp_path, records, local_cluster):
@@ -274,7 +279,8 @@ def test_summary_netcdf_is_cf_with_station_dimension(tmp_path, records, local_cl
     stations = [batch.Station(name="north", path=good[0], lat=-30.5, lon=150.25, source=str(good[0])),
                 batch.Station(name="south", path=bad, source=str(bad))]
     summary = batch.run_batch(stations, out_dir=tmp_path / "out", options=OptionsForTests(),
-                              study=station_study_for_tests, settings=batch.BatchSettings(scheduler=local_cluster.scheduler_address, errors="ignore"))
+                              study=station_study_for_tests,
+                              settings=batch.BatchSettings(scheduler=local_cluster.scheduler_address, errors="ignore"))
     with xr.open_dataset(tmp_path / "out" / "summary.nc") as ds:
         assert ds.attrs["Conventions"] == "CF-1.8"
         assert ds.sizes["station"] == 2 and list(ds["station"].values) == ["north", "south"]
@@ -294,7 +300,8 @@ def test_local_cluster_and_loopback_scheduler_give_identical_numbers(tmp_path, r
     good, bad = records
     stations = batch.stations_from_paths(good + [bad])
     runs = [batch.run_batch(stations, out_dir=tmp_path / name, options=OptionsForTests(seed=3),
-                            study=station_study_for_tests, settings=batch.BatchSettings(scheduler=address, errors="ignore"))
+                            study=station_study_for_tests,
+                            settings=batch.BatchSettings(scheduler=address, errors="ignore"))
             for name, address in (("local", local_cluster.scheduler_address), ("remote", loopback_scheduler))]
     pd.testing.assert_frame_equal(_numbers(runs[0].to_frame()), _numbers(runs[1].to_frame()))
     assert runs[1].n_failed == 1
@@ -307,7 +314,8 @@ def test_progress_is_called_once_per_task(tmp_path, records, local_cluster):
     calls = []
     batch.run_batch(batch.stations_from_paths(good), out_dir=tmp_path / "out", options=OptionsForTests(),
                     study=station_study_for_tests,
-                    progress=lambda done, total, name: calls.append((done, total, name)), settings=batch.BatchSettings(scheduler=local_cluster.scheduler_address))
+                    progress=lambda done, total, name: calls.append((done, total, name)),
+                    settings=batch.BatchSettings(scheduler=local_cluster.scheduler_address))
     assert [c[:2] for c in calls] == [(1, 3), (2, 3), (3, 3)]
     assert sorted(c[2] for c in calls) == ["st0", "st1", "st2"]
 
@@ -373,7 +381,8 @@ def test_gridded_points_studied_in_blocks_match_the_file(tmp_path, local_cluster
     blocks = batch.gridded_blocks(path, block_size=2, datum="MSL")
     assert blocks[0].names == ("point_0", "point_1") and blocks[0].variable == "zeta"
     summary = batch.run_batch(blocks, out_dir=tmp_path / "out", options=OptionsForTests(),
-                              study=station_study_for_tests, settings=batch.BatchSettings(scheduler=local_cluster.scheduler_address))
+                              study=station_study_for_tests,
+                              settings=batch.BatchSettings(scheduler=local_cluster.scheduler_address))
     assert [o["station"] for o in summary.outcomes] == ["point_0", "point_1", "point_2"]
     # each point equals the helper run on the series taken straight from the file with xarray (cm -> m)
     with xr.open_dataset(path) as raw:
@@ -386,7 +395,8 @@ def test_gridded_points_studied_in_blocks_match_the_file(tmp_path, local_cluster
                                rtol=1e-6)
     assert summary.outcomes[2]["datum"] == "MSL" and summary.outcomes[2]["lat"] == pytest.approx(-30.0)
     again = batch.run_batch(blocks, out_dir=tmp_path / "out", options=OptionsForTests(),
-                            study=station_study_for_tests, settings=batch.BatchSettings(scheduler=local_cluster.scheduler_address))
+                            study=station_study_for_tests,
+                            settings=batch.BatchSettings(scheduler=local_cluster.scheduler_address))
     assert again.n_skipped == 3
     del ds
 
@@ -442,7 +452,8 @@ def test_full_study_through_the_batch_local_and_loopback(tmp_path, tidal_records
     stations = batch.stations_from_paths(good + [empty], reader={"datum": "CD"})
     options = StudyOptions(periods_years=(10.0, 100.0), resamples=20, seed=7)
     study = functools.partial(batch.study_station, figures=False)
-    local = batch.run_batch(stations, out_dir=tmp_path / "local", options=options, study=study, settings=batch.BatchSettings(scheduler=local_cluster.scheduler_address, errors="ignore"))
+    local = batch.run_batch(stations, out_dir=tmp_path / "local", options=options, study=study,
+                            settings=batch.BatchSettings(scheduler=local_cluster.scheduler_address, errors="ignore"))
     assert [o["status"] == "ok" for o in local.outcomes] == [True, False]
     assert "empty.csv" in local.outcomes[1]["status"]
     for outcome in local.outcomes[:1]:
@@ -455,7 +466,9 @@ def test_full_study_through_the_batch_local_and_loopback(tmp_path, tidal_records
         row = local.to_frame().set_index("station").loc[outcome["station"]]
         assert row["recommended_method"] == results["recommended_method"]
         assert row["level_100_m"] == best["level_m"]
-    remote = batch.run_batch(stations, out_dir=tmp_path / "remote", options=options, study=study, settings=batch.BatchSettings(scheduler=loopback_scheduler, errors="ignore"))
+    remote = batch.run_batch(stations, out_dir=tmp_path / "remote", options=options, study=study,
+                             settings=batch.BatchSettings(scheduler=loopback_scheduler, errors="ignore"))
     pd.testing.assert_frame_equal(_numbers(local.to_frame()), _numbers(remote.to_frame()))
-    again = batch.run_batch(stations, out_dir=tmp_path / "local", options=options, study=study, settings=batch.BatchSettings(scheduler=local_cluster.scheduler_address, errors="ignore"))
+    again = batch.run_batch(stations, out_dir=tmp_path / "local", options=options, study=study,
+                            settings=batch.BatchSettings(scheduler=local_cluster.scheduler_address, errors="ignore"))
     assert again.n_skipped == 1 and again.n_failed == 1

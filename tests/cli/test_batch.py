@@ -75,3 +75,20 @@ def test_batch_command_end_to_end_failure_resume_and_manifest(tmp_path):
     assert (report["n_stations"], report["n_skipped"]) == (1, 1)
     assert report["stations"][0]["lat"] == -35.5
     assert report["stations"][0]["level_100_m"] == best["level_m"]
+
+
+def test_model_points_mode_and_the_summary_page(tmp_path):
+    from tests.test_batch import write_tidal_record
+
+    write_tidal_record(tmp_path / "point_a.csv", seed=5)
+    out = tmp_path / "out"
+    result = invoke(tmp_path / "point_a.csv", "--out", out, "--periods", "10,100", "--resamples", "20",
+                    "--model-points", "--workers", "1")
+    assert result.exit_code == 0, result.output
+    assert "summary.html" in result.stdout and "neighbours" in result.stdout
+    assert (out / "point_a" / "results.json").is_file() and not (out / "point_a" / "report.html").exists()
+    page = (out / "summary.html").read_text(encoding="utf-8")
+    assert "model-point mode" in page and 'href="point_a/results.json"' in page
+    assert (out / "summary_figures" / "levels_along_coast.png").is_file()
+    results = json.loads((out / "point_a" / "results.json").read_text())
+    assert "joint-probability" not in {r["method"] for r in results["return_levels"]}
