@@ -27,6 +27,7 @@ taken minutes apart, and dask workers run numpy with one BLAS thread each.
 from __future__ import annotations
 
 import argparse
+import dataclasses
 import functools
 import json
 import resource
@@ -127,6 +128,23 @@ def bench_points(args, work: Path) -> None:
     batch.study_station(point, options=options, seed=1, out_dir=work / "ref" / "full", figures=False)
     full_wall, full_cpu = time.perf_counter() - t0, _cpu_seconds() - c0
     print(f"full study of one point in process, no figures: {full_wall:.2f} s wall, {full_cpu:.2f} s CPU")
+    # the model-point mode in process on the first block (its first point builds the shared tide design)
+    from extremes.tide.harmonic import shared_design
+
+    cpu, stage_rows = [], []
+    with shared_design():
+        for k, point in enumerate(blocks[0].stations()[: args.inprocess + 1]):
+            level = batch.block_series(blocks[0], [blocks[0].indices[k]])[0]
+            c0 = _cpu_seconds()
+            done = batch.study_point(dataclasses.replace(point, level_m=level), options=options, seed=1,
+                                     out_dir=work / "ref" / point.name)
+            cpu.append(_cpu_seconds() - c0)
+            stage_rows.append(done["timings_s"])
+    later = cpu[1:] or cpu
+    print(f"model-point mode in process: first point of a block {cpu[0]:.2f} s CPU, the next {len(later)} "
+          f"{statistics.mean(later):.2f} s CPU each (stages: " + ", ".join(
+              f"{k} {statistics.mean(r.get(k, 0.0) for r in stage_rows[1:] or stage_rows):.2f}"
+              for k in stage_rows[0]) + " s wall)")
 
     print(f"\n{'workers':>7} {'wall_s':>7} {'s/point':>8} {'core_s/point':>12} {'1000 points':>12} "
           f"{'failed':>6} {'peak_MB/worker':>16}")
