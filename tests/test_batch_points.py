@@ -70,6 +70,8 @@ def _levels(document) -> dict:
     return {(r["method"], r["return_period_years"]): r for r in document["return_levels"]}
 
 
+# two years hold too few storm peaks for the timing test of the interaction tests: said, expected here
+@pytest.mark.filterwarnings("ignore:only .* independent residual peaks:extremes.errors.ExtremesWarning")
 def test_model_point_mode_matches_the_full_study(tmp_path):
     path = tmp_path / "model.nc"
     write_gridded(path, tidal_points(2, years=2.0))

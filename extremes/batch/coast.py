@@ -116,22 +116,25 @@ def _ranks(order: np.ndarray) -> tuple:
 
 
 def _chain(lat: np.ndarray, lon: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Nearest-neighbour chain from the end of the main axis; (order, cumulative distance [km])."""
+    """Nearest-neighbour chain from the end of the main axis; (order, cumulative distance [km] by station).
+
+    One vectorised distance row per step (no distance matrix): memory grows with the number of stations.
+    """
     x = np.radians(lon - lon.mean()) * math.cos(math.radians(float(lat.mean()))) * EARTH_RADIUS_KM
     y = np.radians(lat - lat.mean()) * EARTH_RADIUS_KM
     xy = np.column_stack([x, y])
     _, _, vt = np.linalg.svd(xy - xy.mean(axis=0), full_matrices=False)
-    projected = xy @ vt[0]
-    start = int(np.argmin(projected))
-    dist = distance_km(lat[:, None], lon[:, None], lat[None, :], lon[None, :])
-    order, seen, along = [start], {start}, [0.0]
-    while len(order) < lat.size:
-        last = order[-1]
-        rest = [j for j in range(lat.size) if j not in seen]
-        nxt = min(rest, key=lambda j: (dist[last, j], j))
-        along.append(along[-1] + float(dist[last, nxt]))
-        order.append(nxt)
-        seen.add(nxt)
+    current = int(np.argmin(xy @ vt[0]))
+    visited = np.zeros(lat.size, bool)
+    order, along = [current], [0.0]
+    visited[current] = True
+    for _ in range(lat.size - 1):
+        dist = distance_km(lat[current], lon[current], lat, lon)
+        dist[visited] = np.inf
+        current = int(np.argmin(dist))  # ties: the first listed
+        along.append(along[-1] + float(dist[current]))
+        order.append(current)
+        visited[current] = True
     out = np.empty(lat.size)
     out[np.array(order)] = along
     return np.array(order), out
@@ -160,18 +163,41 @@ class NeighbourCheck:
         return {"status": self.status, "reasons": list(self.reasons), "neighbours": list(self.neighbours)}
 
 
-def _neighbours(i: int, usable: np.ndarray, order: CoastOrder, lat, lon) -> tuple[list[int], str]:
+def _unit_vectors(lat, lon) -> np.ndarray:
+    """Points on the unit sphere: chord length grows with great-circle distance, so a k-d tree finds the nearest."""
+    p, q = np.radians(lat), np.radians(lon)
+    return np.column_stack([np.cos(p) * np.cos(q), np.cos(p) * np.sin(q), np.sin(p)])
+
+
+def _nearest_two(usable: np.ndarray, lat, lon) -> np.ndarray:
+    """For every station, its two nearest usable stations (-1 where none), by a k-d tree (scipy)."""
+    from scipy.spatial import cKDTree
+
+    pool = np.flatnonzero(usable)
+    out = np.full((lat.size, 2), -1)
+    if pool.size < 2:
+        return out
+    known = np.isfinite(lat) & np.isfinite(lon)
+    k = min(3, pool.size)
+    chord, found = cKDTree(_unit_vectors(lat[pool], lon[pool])).query(_unit_vectors(lat[known], lon[known]), k=k)
+    for i, dist, row in zip(np.flatnonzero(known), np.atleast_2d(chord), np.atleast_2d(found)):
+        # nearest first; equal distances (to 1 mm) in the order the stations were given
+        others = sorted((round(float(d) * EARTH_RADIUS_KM, 6), int(pool[j])) for d, j in zip(dist, row) if pool[j] != i)
+        others = [j for _, j in others[:2]]
+        out[i, :len(others)] = others
+    return out
+
+
+def _neighbours(i: int, order: CoastOrder, ranked: np.ndarray, nearest: np.ndarray | None) -> tuple[list[int], str]:
+    """The neighbours of station ``i`` and how they were chosen (``ranked``: usable stations in coast order)."""
     if order.basis == "chainage":
-        rank = np.asarray(order.rank)
-        before = [j for j in np.flatnonzero(usable) if rank[j] < rank[i]]
-        after = [j for j in np.flatnonzero(usable) if rank[j] > rank[i]]
-        chosen = ([max(before, key=lambda j: rank[j])] if before else []) + (
-            [min(after, key=lambda j: rank[j])] if after else [])
-        return chosen, "along the coast"
-    if order.basis == "position":
-        others = [j for j in np.flatnonzero(usable) if j != i]
-        dist = distance_km(lat[i], lon[i], lat[others], lon[others]) if others else np.array([])
-        return [others[k] for k in np.argsort(dist, kind="stable")[:2]], "nearest by distance"
+        where = int(np.searchsorted(np.asarray(order.rank)[ranked], order.rank[i]))
+        before = ranked[:where][-1:]
+        after = ranked[where:]
+        after = after[after != i][:1]
+        return [int(j) for j in np.concatenate([before, after])], "along the coast"
+    if order.basis == "position" and nearest is not None:
+        return [int(j) for j in nearest[i] if j >= 0], "nearest by distance"
     return [], ""
 
 
@@ -211,6 +237,9 @@ def neighbour_consistency(names, level_m, lower_m, upper_m, *, order: CoastOrder
     usable = np.isfinite(level)
     if order.basis == "position":
         usable &= np.isfinite(lat) & np.isfinite(lon)
+    rank = np.asarray(order.rank)
+    ranked = np.flatnonzero(usable)[np.argsort(rank[usable], kind="stable")]
+    nearest = _nearest_two(usable, lat, lon) if order.basis == "position" else None
     out = []
     for i, name in enumerate(names):
         if not np.isfinite(level[i]):
@@ -219,7 +248,7 @@ def neighbour_consistency(names, level_m, lower_m, upper_m, *, order: CoastOrder
         if order.basis == "as given":
             out.append(NeighbourCheck("not assessed", ("no chainage or position: neighbours unknown",)))
             continue
-        near, how = _neighbours(i, usable, order, lat, lon)
+        near, how = _neighbours(i, order, ranked, nearest)
         shown = tuple(str(names[j]) for j in near)
         if len(near) < 2:
             out.append(NeighbourCheck("not assessed", ("fewer than two neighbours with a level to compare",), shown))

@@ -115,7 +115,15 @@ class BatchSummary:
                 seen.setdefault(str(row["method"]), None)
         return tuple(seen)
 
+    @functools.cached_property
+    def _level_arrays(self):
+        return self._compute_levels()
+
     def _levels(self):
+        """Cached :meth:`_compute_levels` (a summary does not change)."""
+        return self._level_arrays
+
+    def _compute_levels(self):
         """Arrays (station, method, period) of level, lower, upper [m], and (station, period) recommended."""
         methods = self.methods
         periods = np.asarray(self.periods_years, dtype=float)
@@ -151,6 +159,11 @@ class BatchSummary:
         recommended method's ``level_T_m, lower_T_m, upper_T_m`` and every method's
         ``<method>_level_T_m, <method>_lower_T_m, <method>_upper_T_m`` (T written as in ``%g``). [m]
         """
+        return self._table.copy()
+
+    @functools.cached_property
+    def _table(self) -> pd.DataFrame:
+        """The summary table, built once."""
         arrays, recommended, confidence = self._levels()
         frame = pd.DataFrame({
             "station": [o["station"] for o in self.outcomes],
