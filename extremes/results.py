@@ -213,7 +213,7 @@ def study_tables(result: StudyResult) -> dict[str, pd.DataFrame]:
 
 
 def write_study(result: StudyResult, out_dir, *, overwrite: bool = False, figures: bool = True,
-                progress=None) -> Path:
+                progress=None, tables: bool = True) -> Path:
     """Write the results folder of ``result`` to ``out_dir`` atomically.
 
     Parameters
@@ -227,6 +227,8 @@ def write_study(result: StudyResult, out_dir, *, overwrite: bool = False, figure
         Draw the figures and the HTML report (False: numbers and tables only).
     progress : callable, optional
         Called with a stage name as writing proceeds.
+    tables : bool, keyword-only
+        Write the CSV tables (False: results.json and the saved models only, as for model points).
 
     Returns
     -------
@@ -236,9 +238,10 @@ def write_study(result: StudyResult, out_dir, *, overwrite: bool = False, figure
     out_dir = Path(out_dir)
     with output_folder(out_dir, overwrite=overwrite) as work:
         document = result.to_dict()
-        (work / "tables").mkdir()
-        for stem, frame in study_tables(result).items():
-            (work / "tables" / f"{stem}.csv").write_text(csv_text(frame), encoding="utf-8")
+        if tables:
+            (work / "tables").mkdir()
+            for stem, frame in study_tables(result).items():
+                (work / "tables" / f"{stem}.csv").write_text(csv_text(frame), encoding="utf-8")
         (work / "models").mkdir()
         (work / "models" / "tide_model.json").write_text(
             json.dumps(to_jsonable(result.tide_model.to_dict()), indent=2, allow_nan=False), encoding="utf-8")

@@ -99,6 +99,8 @@ def test_model_point_mode_matches_the_full_study(tmp_path):
                     assert row[column] == pytest.approx(want[key][column], abs=batch.POINT_TOLERANCE_M), key
         assert not (tmp_path / "fast" / point.name / "report.html").exists()
         assert not (tmp_path / "fast" / point.name / "figures").exists()
+        assert not (tmp_path / "fast" / point.name / "tables").exists()
+        assert (tmp_path / "fast" / point.name / "models" / "curves.json").is_file()
         assert any("left out" in note for note in quick["notes"])
 
 

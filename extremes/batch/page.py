@@ -99,6 +99,8 @@ def levels_along_coast_figure(summary: BatchSummary):
         if dense:
             ax.fill_between(x, lower, upper, color=colour, alpha=0.2, linewidth=0)
             ax.plot(x, level, color=colour, lw=1.2, label=f"{tag}-year level and interval")
+            ax.plot(x[doubtful & ok], level[doubtful & ok], "o", ms=9, mfc="none", mec="#e07000", mew=1.6,
+                    label="doubtful: verdict or neighbour check" if k == 0 else None)
             continue
         open_top = np.isfinite(level) & ~np.isfinite(upper)
         # an interval that does not contain its estimate (a bootstrap can give one) is drawn to the estimate
@@ -143,9 +145,10 @@ def station_map_figure(summary: BatchSummary):
     fig = Figure(figsize=(8.0, 6.4), layout="constrained")
     ax = fig.add_subplot()
     has = known & ok & np.isfinite(level)
+    dense = known.sum() > _NAMED_MAX
     if has.any():
-        points = ax.scatter(lon[has], lat[has], c=level[has], cmap="viridis", s=60, edgecolors="k", linewidths=0.5,
-                            zorder=3)
+        points = ax.scatter(lon[has], lat[has], c=level[has], cmap="viridis", s=14 if dense else 60,
+                            edgecolors="none" if dense else "k", linewidths=0.5, zorder=3)
         fig.colorbar(points, ax=ax, label=f"{HEADLINE_PERIOD_YEARS:g}-year level [m]")
     marked = known & doubtful & ok
     if marked.any():
@@ -153,8 +156,8 @@ def station_map_figure(summary: BatchSummary):
                    zorder=4, label="doubtful: verdict or neighbour check")
     failed = known & ~ok
     if failed.any():
-        ax.scatter(lon[failed], lat[failed], marker="x", s=90, c="k", linewidths=2, zorder=4,
-                   label="study failed")
+        ax.scatter(lon[failed], lat[failed], marker="x", s=30 if dense else 90, c="k", linewidths=1.2 if dense else 2,
+                   zorder=4, label="study failed")
     if known.sum() <= _NAMED_MAX:
         for name, xx, yy in zip(frame["station"][known], lon[known], lat[known]):
             ax.annotate(str(name), (xx, yy), xytext=(5, 5), textcoords="offset points", fontsize=8)

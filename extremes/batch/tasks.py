@@ -9,7 +9,7 @@ Two per-station studies are provided:
 - :func:`study_station`: the full study (:func:`extremes.study.run_study` and
   :func:`extremes.results.write_study`), figures and report included unless ``figures=False``;
 - :func:`study_point`: the model-point mode: the same study without what points do not need (the hourly
-  joint-probability check method, figures and the per-point report). The recommended method, its levels
+  joint-probability check method, figures, the per-point report and tables). The recommended method, its levels
   and intervals are those of the full study (the hourly method is a comparison method that the
   recommendation rule never picks while the skew-surge method is available; :data:`POINT_TOLERANCE_M`).
 """
@@ -66,13 +66,14 @@ def completed_results(station_dir: str | os.PathLike) -> dict | None:
 
 
 def study_station(station: Station, *, options, seed: int, out_dir: Path, overwrite: bool = False,
-                  figures: bool = True, hourly_check: bool = True) -> dict:
+                  figures: bool = True, hourly_check: bool = True, tables: bool = True) -> dict:
     """The full study of one station, written to ``out_dir``; returns its ``results.json`` mapping.
 
     Runs :func:`extremes.study.run_study` (a file) or :func:`extremes.study.run_study_series` (an
     in-memory series) with ``options`` whose seed is replaced by ``seed``, then
     :func:`extremes.results.write_study` (with the figures and HTML report unless ``figures=False``).
-    ``hourly_check=False`` leaves out the hourly joint-probability comparison method.
+    ``hourly_check=False`` leaves out the hourly joint-probability comparison method; ``tables=False`` the
+    CSV tables.
     """
     from extremes import results as results_module
     from extremes import study as study_module
@@ -86,7 +87,7 @@ def study_station(station: Station, *, options, seed: int, out_dir: Path, overwr
                                                options=options, **extra)
     else:
         result = study_module.run_study(station.path, reader=dict(station.reader), options=options, **extra)
-    results_module.write_study(result, out_dir, overwrite=overwrite, figures=figures)
+    results_module.write_study(result, out_dir, overwrite=overwrite, figures=figures, tables=tables)
     document = completed_results(out_dir)
     if document is None:
         raise OutputError(f"{out_dir}: the study wrote no complete results.json")
@@ -94,12 +95,12 @@ def study_station(station: Station, *, options, seed: int, out_dir: Path, overwr
 
 
 def study_point(station: Station, *, options, seed: int, out_dir: Path, overwrite: bool = False) -> dict:
-    """The model-point mode of :func:`study_station`: no hourly check method, no figures, no report.
+    """The model-point mode of :func:`study_station`: no hourly check method, figures, report or tables.
 
-    Writes ``results.json``, the tables and the saved models (so ``extremes rerun`` works on a point).
+    Writes ``results.json`` (every number) and the saved models (so ``extremes rerun`` works on a point).
     """
     return study_station(station, options=options, seed=seed, out_dir=out_dir, overwrite=overwrite,
-                         figures=False, hourly_check=False)
+                         figures=False, hourly_check=False, tables=False)
 
 
 def one_line(err: BaseException) -> str:
