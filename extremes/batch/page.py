@@ -16,6 +16,7 @@ import html
 import io
 import logging
 import math
+from urllib.parse import quote
 
 import numpy as np
 import pandas as pd
@@ -244,7 +245,7 @@ def _table(summary: BatchSummary, frame: pd.DataFrame) -> str:
         ok = row["status"] == "ok"
         css = "failed" if not ok else ("doubtful" if doubtful[i] else "")
         name = _esc(row["station"])
-        link = f'<a href="{_esc(row["report"])}">{name}</a>' if row["report"] else name
+        link = f'<a href="{_esc(quote(row["report"]))}">{name}</a>' if row["report"] else name
         cells = [f"<td>{int(row['coast_order']) + 1}</td>", f'<td class="text">{link}</td>',
                  f"<td>{_badge(row['assessment']) if ok else ''}</td>",
                  f"<td>{_badge(row['consistency']) if ok else ''}</td>",

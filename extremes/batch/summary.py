@@ -42,7 +42,8 @@ class BatchSummary:
         ``chainage``, ``datum``, ``return_levels`` (rows ``method, return_period_years, level_m, lower_m,
         upper_m, confidence``), ``assessment`` (the station's verdict ``ok``/``check``/``unreliable``, empty
         when its results carry none) and ``assessment_reasons``, ``record_years``, ``report`` (relative link
-        to the station's report or results), ``warnings``, ``stage_seconds`` (time by study stage [s]).
+        to the station's report or results), ``epoch_year``, ``warnings``, ``stage_seconds`` (time by study
+        stage [s]) and ``worker`` (the dask worker that ran it; not in the summary files).
     periods_years : tuple of float
         Return periods of the summary columns. [years]
     seconds : float
