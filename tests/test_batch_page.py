@@ -124,6 +124,7 @@ def coast_batch(coast_manifest, local_cluster, tmp_path_factory):
     return summary, out
 
 
+@pytest.mark.slow  # a batch on a local dask cluster
 def test_summary_flags_the_inconsistent_station_and_carries_verdicts(coast_batch):
     summary, out = coast_batch
     frame = pd.read_csv(out / "summary.csv", keep_default_na=False).set_index("station")
@@ -189,6 +190,7 @@ window.addEventListener("load", function () {
 </script>"""
 
 
+@pytest.mark.slow  # a batch on a local dask cluster
 @pytest.mark.skipif(_browser() is None, reason="no chromium executable found")
 def test_summary_page_in_headless_chromium(coast_batch, tmp_path):
     summary, out = coast_batch
@@ -221,6 +223,7 @@ def test_summary_page_in_headless_chromium(coast_batch, tmp_path):
     assert "Orrin_Head" in result.stdout.split('id="attention"')[1].split("</ul>")[0]
 
 
+@pytest.mark.slow  # a batch on a local dask cluster
 def test_resumed_run_rewrites_the_summaries_for_every_station(coast_batch, coast_manifest, local_cluster,
                                                               tmp_path):
     _, out = coast_batch

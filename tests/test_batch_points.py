@@ -70,6 +70,7 @@ def _levels(document) -> dict:
     return {(r["method"], r["return_period_years"]): r for r in document["return_levels"]}
 
 
+@pytest.mark.slow  # whole studies
 # two years hold too few storm peaks for the timing test of the interaction tests: said, expected here
 @pytest.mark.filterwarnings("ignore:only .* independent residual peaks:extremes.errors.ExtremesWarning")
 def test_model_point_mode_matches_the_full_study(tmp_path):
@@ -104,6 +105,7 @@ def test_model_point_mode_matches_the_full_study(tmp_path):
         assert any("left out" in note for note in quick["notes"])
 
 
+@pytest.mark.slow  # batches on local dask clusters
 def test_points_mode_through_the_batch_and_tasks_spread_over_workers(tmp_path):
     """With 1 worker every task runs on it; with 2 both take tasks, and the numbers do not change."""
     from distributed import LocalCluster

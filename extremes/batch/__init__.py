@@ -28,12 +28,26 @@ Robustness:
   the numbers do not depend on the order of the tasks, the number of workers or the machines.
 """
 from extremes.batch.gridded import block_series, gridded_blocks, open_gridded
-from extremes.batch.inputs import (MANIFEST_COLUMNS, GriddedBlock, Station, expand_records, read_manifest,
-                                   station_name, stations_from_paths)
+from extremes.batch.inputs import (
+    MANIFEST_COLUMNS,
+    GriddedBlock,
+    Station,
+    expand_records,
+    read_manifest,
+    station_name,
+    stations_from_paths,
+)
 from extremes.batch.run import BatchSettings, dask_client, run_batch
 from extremes.batch.summary import HEADLINE_PERIOD_YEARS, BatchSummary, write_summaries
-from extremes.batch.tasks import (DEFAULT_SEED, POINT_TOLERANCE_M, completed_results, run_item, station_seed,
-                                  study_point, study_station)
+from extremes.batch.tasks import (
+    POINT_TOLERANCE_M,
+    completed_results,
+    run_item,
+    station_seed,
+    study_point,
+    study_station,
+)
+from extremes.constants import DEFAULT_SEED
 
 __all__ = ["Station", "GriddedBlock", "BatchSummary", "BatchSettings", "run_batch", "study_station",
            "study_point", "station_seed", "station_name", "expand_records", "stations_from_paths",

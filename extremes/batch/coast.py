@@ -241,7 +241,7 @@ def neighbour_consistency(names, level_m, lower_m, upper_m, *, order: CoastOrder
     ranked = np.flatnonzero(usable)[np.argsort(rank[usable], kind="stable")]
     nearest = _nearest_two(usable, lat, lon) if order.basis == "position" else None
     out = []
-    for i, name in enumerate(names):
+    for i in range(len(names)):
         if not np.isfinite(level[i]):
             out.append(NeighbourCheck("not assessed", ("no level to compare",)))
             continue

@@ -306,7 +306,7 @@ def render_summary_page(summary: BatchSummary, figures: dict[str, bytes]) -> str
              '<meta name="viewport" content="width=device-width, initial-scale=1">',
              f"<title>Design still-water levels along the coast: {n} stations</title>",
              f"<style>{_CSS}</style>", "</head>", "<body>",
-             f"<h1>Design still-water levels along the coast</h1>",
+             "<h1>Design still-water levels along the coast</h1>",
              f'<p id="counts">{n} stations: {summary.n_ok} studied ({summary.n_skipped} from earlier runs), '
              f"{summary.n_failed} failed, {doubtful} with a check or unreliable verdict, {inconsistent} "
              f"disagreeing with their neighbours. Stations ordered by {_esc(summary.order.basis)}.</p>",
@@ -326,7 +326,7 @@ def render_summary_page(summary: BatchSummary, figures: dict[str, bytes]) -> str
               "Each name links to the station's own report (or its results when no report was drawn).</p>",
               _table(summary, frame), "<h2>Cautions</h2>", '<ol id="cautions">']
     parts += [f"<li>{_esc(c)}</li>" for c in batch_cautions(summary)]
-    now = _dt.datetime.now(_dt.timezone.utc).strftime("%Y-%m-%d %H:%M UTC")
+    now = _dt.datetime.now(_dt.UTC).strftime("%Y-%m-%d %H:%M UTC")
     conf = frame["confidence"].dropna()
     parts += ["</ol>", "<h2>Provenance</h2>",
               f'<p class="meta">extremes {_esc(__version__)}; written {now}; mode {_esc(summary.mode)}; return '

@@ -7,14 +7,24 @@ import logging
 import os
 import time
 import warnings
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Callable, Literal, Mapping, Sequence
+from typing import Literal
 
 from extremes.batch.inputs import GriddedBlock, Station, check_unique_names
 from extremes.batch.summary import BatchSummary, write_summaries
-from extremes.batch.tasks import (DEFAULT_SEED, one_line, outcome, finished_outcome, run_item, station_seed,
-                                  stations_of, study_point, study_station)
+from extremes.batch.tasks import (
+    finished_outcome,
+    one_line,
+    outcome,
+    run_item,
+    station_seed,
+    stations_of,
+    study_point,
+    study_station,
+)
+from extremes.constants import DEFAULT_SEED
 from extremes.errors import DataError, ExtremesWarning, OutputError
 
 logger = logging.getLogger(__name__)

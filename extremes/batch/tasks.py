@@ -23,15 +23,14 @@ import os
 import time
 import warnings
 import zlib
+from collections.abc import Mapping, Sequence
 from pathlib import Path
-from typing import Mapping, Sequence
 
 import numpy as np
 import pandas as pd
 
 from extremes.batch.gridded import block_series
 from extremes.batch.inputs import GriddedBlock, Station
-from extremes.constants import DEFAULT_SEED
 from extremes.errors import ExtremesError, OutputError
 
 logger = logging.getLogger(__name__)
