@@ -92,3 +92,8 @@ def test_model_points_mode_and_the_summary_page(tmp_path):
     assert (out / "summary_figures" / "levels_along_coast.png").is_file()
     results = json.loads((out / "point_a" / "results.json").read_text())
     assert "joint-probability" not in {r["method"] for r in results["return_levels"]}
+    # the station's verdict from its results.json, in the summary and on the page
+    summary = pd.read_csv(out / "summary.csv", keep_default_na=False).set_index("station")
+    assert summary.loc["point_a", "assessment"] == results["assessment"]["status"]
+    assert summary.loc["point_a", "assessment"] in ("ok", "check", "unreliable")
+    assert summary.loc["point_a", "assessment_reasons"] == "; ".join(results["assessment"]["reasons"])
