@@ -62,8 +62,9 @@ def rerun_sea_level_rise(results_dir, *, slr_m, periods_years=None, method: str 
     method : str, optional
         Method whose curve is raised; default the study's recommended method.
     out_dir : path-like, optional
-        Write a results folder with the new offsets (``results.json``, every table, ``models/``); never over
-        existing results unless ``overwrite``.
+        Write a results folder with the new offsets (``results.json``, every table, ``models/``, and when
+        the study has a report, the report in HTML and PDF with its figures, the sea-level-rise figure
+        redrawn); never over existing results unless ``overwrite``.
 
     Returns
     -------
@@ -130,3 +131,7 @@ def _write_rerun(source: Path, out_dir: Path, document: dict, slr, *, overwrite:
             (work / "tables" / f"{stem}.csv").write_text(csv_text(frame), encoding="utf-8")
         (work / "models" / "curves.json").write_text(dumps(document["curves"]), encoding="utf-8")
         (work / "results.json").write_text(dumps(document), encoding="utf-8")
+        if (source / "report.html").is_file():  # the report and sea-level-rise figure for the new offsets
+            from extremes.report.assemble import refresh_report
+
+            refresh_report(document, source).write(work)

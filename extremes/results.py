@@ -20,6 +20,7 @@ folder atomically:
     models/curves.json            every method's return-level curve (what ``extremes rerun`` reuses)
     figures/*.png                 the report's figures
     report.html                   one self-contained report
+    report.pdf                    the same report for printing and filing (A4)
 """
 from __future__ import annotations
 
@@ -224,7 +225,7 @@ def write_study(result: StudyResult, out_dir, *, overwrite: bool = False, figure
     overwrite : bool, keyword-only
         Replace an existing results folder (only once the new one is complete).
     figures : bool, keyword-only
-        Draw the figures and the HTML report (False: numbers and tables only).
+        Draw the figures and the HTML and PDF report (False: numbers and tables only).
     progress : callable, optional
         Called with a stage name as writing proceeds.
     tables : bool, keyword-only
@@ -251,11 +252,7 @@ def write_study(result: StudyResult, out_dir, *, overwrite: bool = False, figure
                 progress("report")
             from extremes.report.study_report import build_study_report
 
-            html, pngs = build_study_report(result, document)
-            (work / "figures").mkdir()
-            for name, png in pngs.items():
-                (work / "figures" / f"{name}.png").write_bytes(png)
-            (work / "report.html").write_text(html, encoding="utf-8")
+            build_study_report(result, document).write(work)
         (work / "results.json").write_text(dumps(document), encoding="utf-8")
     return out_dir
 

@@ -56,7 +56,7 @@ def summary_text(result, out_dir: Path) -> str:
     report = out_dir / "report.html"
     lines.append(f"results: {out_dir / 'results.json'}")
     if report.exists():
-        lines.append(f"report:  {report}")
+        lines.append(f"report:  {report} (and {report.with_suffix('.pdf').name} for printing)")
     return "\n".join(lines)
 
 
@@ -67,7 +67,7 @@ def summary_text(result, out_dir: Path) -> str:
               metavar="DIR", help="Results folder to write (refused if it holds results, unless --overwrite).")
 @options.study_options
 @click.option("--figures/--no-figures", default=True, show_default=True,
-              help="Draw the figures and the HTML report (--no-figures: numbers and tables only).")
+              help="Draw the figures and the HTML and PDF report (--no-figures: numbers and tables only).")
 @click.option("--progress/--no-progress", "show_progress", default=None,
               help="Show each stage on stderr (default: only on a terminal).")
 @options.overwrite_option

@@ -9,7 +9,6 @@ from __future__ import annotations
 import base64
 import datetime as _dt
 import html
-import json
 import logging
 import math
 from collections.abc import Mapping
@@ -22,7 +21,8 @@ from extremes.errors import DataError
 
 logger = logging.getLogger(__name__)
 
-__all__ = ["FigureItem", "TableItem", "Section", "Summary", "render_report", "column_label"]
+__all__ = ["FigureItem", "TableItem", "Section", "Summary", "render_report", "render_html", "column_label",
+           "format_cell"]
 
 _PNG_SIGNATURE = b"\x89PNG\r\n\x1a\n"
 
@@ -105,6 +105,10 @@ class Summary:
         Recommended levels (e.g. ``return_period_years, level_m, lower_m, upper_m``).
     paragraphs : tuple of str
         Short statements (why this method, the period definition, ...).
+    assessment : dict, optional
+        The verdict: ``status`` (``ok``, ``check``, ``unreliable`` or ``not assessed``), ``text`` (its
+        meaning) and ``reasons`` (plain sentences), from
+        :func:`extremes.report.sections.assessment_of`.
     """
 
     datum: str
@@ -112,6 +116,7 @@ class Summary:
     recommended_method: str
     levels: pd.DataFrame = field(default_factory=pd.DataFrame)
     paragraphs: tuple = ()
+    assessment: dict | None = None
 
     def __post_init__(self):
         object.__setattr__(self, "paragraphs", (self.paragraphs,) if isinstance(self.paragraphs, str)
@@ -126,7 +131,8 @@ class Summary:
         from extremes.jsonable import to_jsonable
 
         return {"datum": self.datum, "epoch_year": self.epoch_year, "recommended_method": self.recommended_method,
-                "levels": to_jsonable(self.levels), "paragraphs": list(self.paragraphs)}
+                "levels": to_jsonable(self.levels), "paragraphs": list(self.paragraphs),
+                "assessment": to_jsonable(self.assessment)}
 
 
 # ------------------------------------------------------------------------------------------------
@@ -139,8 +145,11 @@ def column_label(name) -> str:
     return text.replace("_", " ")
 
 
-def _cell(value, column: str) -> str:
-    if value is None:
+def format_cell(value, column: str) -> str:
+    """Text of one table cell: levels to the millimetre, periods to four figures, times in UTC, a dash
+    for a missing value (the same in the HTML and the PDF report)."""
+    column = str(column)
+    if value is None or (isinstance(value, float) and math.isnan(value)):
         return "–"
     if isinstance(value, (pd.Timestamp, _dt.datetime)):
         ts = pd.Timestamp(value)
@@ -156,6 +165,8 @@ def _cell(value, column: str) -> str:
             return "–"
         if column.endswith("_m") or column.endswith("_m_per_year"):
             return f"{value:.3f}"
+        if column.endswith("_percent"):
+            return f"{value:.1f}"
         if column.endswith("_years") and value >= 1:
             return f"{value:.4g}" if value < 1e4 else f"{value:,.0f}"
         return f"{value:.4g}"
@@ -169,7 +180,7 @@ def _table_html(frame: pd.DataFrame, caption: str, number: int) -> str:
     head = "".join(f'<th scope="col">{html.escape(column_label(c))}</th>' for c in columns)
     body = []
     for row in frame.itertuples(index=False, name=None):
-        cells = "".join(f"<td>{html.escape(_cell(v, c))}</td>" for v, c in zip(row, columns))
+        cells = "".join(f"<td>{html.escape(format_cell(v, c))}</td>" for v, c in zip(row, columns))
         body.append(f"<tr>{cells}</tr>")
     return (f'<div class="table-wrap"><table><caption>Table {number}. {html.escape(caption)}</caption>'
             f"<thead><tr>{head}</tr></thead><tbody>{''.join(body)}</tbody></table></div>")
@@ -184,33 +195,58 @@ def _figure_html(item: FigureItem, number: int) -> str:
             f"<figcaption>Figure {number}. {html.escape(item.caption)}</figcaption></figure>")
 
 
-def _provenance_value(value) -> str:
-    from extremes.jsonable import to_jsonable
+def _plain(value) -> str:
+    """Readable text of an option value: lists joined with commas, mappings as ``name value`` pairs."""
+    if value is None:
+        return "not set"
+    if isinstance(value, Mapping):
+        return "; ".join(f"{str(k).replace('_', ' ')} {_plain(v)}" for k, v in value.items()) or "none"
+    if isinstance(value, (list, tuple)):
+        return ", ".join(_plain(v) for v in value) or "none"
+    if isinstance(value, float):
+        return f"{value:g}"
+    return str(value)
 
-    if isinstance(value, (Mapping, list, tuple)):
-        text = json.dumps(to_jsonable(value), indent=2, sort_keys=True, ensure_ascii=False)
-        return f"<pre>{html.escape(text)}</pre>"
-    plain = to_jsonable(value)
-    return f"<code>{html.escape('–' if plain is None else str(plain))}</code>"
+
+def provenance_rows(provenance) -> pd.DataFrame:
+    """Provenance as a two-column table (``item``, ``value``) of plain text; a mapping's nested values
+    become one row each (``options: seed`` ...)."""
+    if isinstance(provenance, pd.DataFrame):
+        return provenance
+    if not isinstance(provenance, Mapping):
+        raise DataError(f"report provenance: expected a mapping or a DataFrame; got {type(provenance).__name__}")
+    rows = []
+    for key, value in provenance.items():
+        if isinstance(value, Mapping) and value:
+            rows.extend((f"{key}: {column_label(k)}", _plain(v)) for k, v in value.items())
+        else:
+            rows.append((str(key), _plain(value)))
+    return pd.DataFrame(rows, columns=["item", "value"])
 
 
 _CSS = """
 body{font-family:system-ui,-apple-system,"Segoe UI",Roboto,Helvetica,Arial,sans-serif;margin:0 auto;
-max-width:1100px;padding:1.5em 2em 3em;color:#1b1b1b;line-height:1.45;background:#fff}
-h1{font-size:1.7em;margin:0 0 .2em}h2{font-size:1.3em;border-bottom:2px solid #d0d7de;padding-bottom:.2em;
-margin-top:2em}.meta{color:#555;margin:0 0 1em}
-.box{border-radius:6px;padding:.8em 1.2em;margin:1em 0}.box h2{border:0;margin:.2em 0 .4em}
-.summary{background:#eef6ff;border:1px solid #9cc3ec}.cautions{background:#fff6e5;border:1px solid #e3b45b}
-.cautions li{margin:.3em 0}.provenance{background:#f6f8fa;border:1px solid #d0d7de}
+max-width:1100px;padding:1em 2em 3em;color:#1b1b1b;line-height:1.4;background:#fff}
+h1{font-size:1.5em;margin:0 0 .1em}h2{font-size:1.25em;border-bottom:2px solid #d0d7de;padding-bottom:.2em;
+margin-top:1.8em}.meta{color:#444;margin:0 0 .6em}
+.box{border-radius:6px;padding:.5em 1em;margin:.6em 0}.box h2{border:0;margin:.1em 0 .3em;font-size:1.15em}
+.summary{background:#eef6ff;border:1px solid #9cc3ec}.cautions{background:#fff6e5;border:1px solid #e3b45b;
+font-size:.9em}.cautions li{margin:.15em 0}.provenance{background:#f6f8fa;border:1px solid #d0d7de}
+.columns{display:flex;flex-wrap:wrap;gap:0 2em}.columns>div{flex:1 1 22em}.summary p{margin:.35em 0}
+.verdict{font-weight:700;padding:.25em .6em;border-radius:4px;display:inline-block;border:2px solid}
+.verdict-ok{border-color:#009E73}.verdict-check{border-color:#E69F00;background:#fff3d6}
+.verdict-unreliable{border-color:#D55E00;background:#fde3d6}.verdict-not{border-color:#777}
+.reasons{margin:.3em 0 .3em 1.2em;padding:0}
 nav ol{columns:2;margin:.3em 0}
 figure{margin:1.2em 0;text-align:center}figure img{max-width:100%;height:auto;border:1px solid #e1e4e8}
 figcaption{font-size:.92em;color:#333;margin-top:.4em;text-align:left}
-.table-wrap{overflow-x:auto;margin:1em 0}table{border-collapse:collapse;font-size:.92em}
-caption{text-align:left;font-weight:600;padding:.3em 0}th,td{border:1px solid #d0d7de;padding:.25em .6em;
+.table-wrap{overflow-x:auto;margin:.8em 0}table{border-collapse:collapse;font-size:.9em}
+caption{text-align:left;font-weight:600;padding:.3em 0}th,td{border:1px solid #d0d7de;padding:.2em .55em;
 text-align:right}th{background:#f0f3f6}td:first-child,th:first-child{text-align:left}
-dl{display:grid;grid-template-columns:max-content 1fr;gap:.3em 1em}dt{font-weight:600}dd{margin:0}
-pre{background:#fff;border:1px solid #e1e4e8;padding:.5em;overflow-x:auto;font-size:.85em;margin:0}
-@media print{nav{display:none}h2{page-break-after:avoid}figure,table{page-break-inside:avoid}}
+.provenance td{text-align:left;word-break:break-all}
+@page{size:A4;margin:18mm 16mm}
+@media print{nav{display:none}body{max-width:none;padding:0}h2{page-break-after:avoid}
+figure,table,.box{page-break-inside:avoid}}
 """
 
 
@@ -221,14 +257,51 @@ def _summary(summary) -> Summary:
         try:
             return Summary(datum=summary["datum"], epoch_year=summary.get("epoch_year"),
                            recommended_method=summary["recommended_method"],
-                           levels=summary.get("levels", pd.DataFrame()), paragraphs=summary.get("paragraphs", ()))
+                           levels=summary.get("levels", pd.DataFrame()), paragraphs=summary.get("paragraphs", ()),
+                           assessment=summary.get("assessment"))
         except KeyError as err:
             raise DataError(f"report summary: missing key {err}; expected datum, epoch_year, recommended_method, "
                             f"levels") from None
     raise DataError(f"report summary: expected a Summary or a mapping; got {type(summary).__name__}")
 
 
-def render_report(*, title: str, summary, sections, cautions, provenance: Mapping) -> str:
+def epoch_text(epoch_year) -> str:
+    """The epoch as shown in the report (one decimal), or ``not stated``."""
+    return "not stated" if epoch_year is None else f"{epoch_year:.1f}"
+
+
+def _verdict_html(assessment) -> str:
+    esc = html.escape
+    if not assessment:
+        return ""
+    status = str(assessment.get("status", "not assessed"))
+    parts = [f'<p><strong>Verdict:</strong> <span class="verdict verdict-{esc(status.split()[0])}">'
+             f"{esc(str(assessment.get('text') or status))}</span></p>"]
+    reasons = list(assessment.get("reasons") or ())
+    if reasons:
+        parts.append('<ul class="reasons">' + "".join(f"<li>{esc(str(r))}</li>" for r in reasons) + "</ul>")
+    return "".join(parts)
+
+
+def _summary_html(summary: Summary, table_no: int) -> str:
+    esc = html.escape
+    epoch = epoch_text(summary.epoch_year)
+    parts = ['<section class="box summary" id="summary"><h2>Summary</h2><div class="columns"><div>']
+    if len(summary.levels):
+        parts.append(_table_html(summary.levels, f"Recommended still-water return levels, metres above "
+                                 f"{summary.datum}, epoch {epoch} ({summary.recommended_method})", table_no))
+    parts.append("</div><div>")
+    parts.append(_verdict_html(summary.assessment))
+    parts.append(f"<p><strong>Datum:</strong> {esc(summary.datum)}. <strong>Mean-sea-level epoch:</strong> "
+                 f"{esc(epoch)}.</p><p><strong>Recommended method:</strong> "
+                 f"{esc(summary.recommended_method)}.</p>")
+    parts.extend(f"<p>{esc(str(text))}</p>" for text in summary.paragraphs)
+    parts.append("</div></div></section>")
+    return "".join(parts)
+
+
+def render_report(*, title: str, summary, sections, cautions, provenance, appendices=(),
+                  made: str | None = None) -> str:
     """Render the study as one self-contained HTML page.
 
     Parameters
@@ -236,14 +309,19 @@ def render_report(*, title: str, summary, sections, cautions, provenance: Mappin
     title : str
         Page title (e.g. the station name).
     summary : Summary or mapping
-        The recommended still-water levels with datum, epoch and method (mapping keys as the fields of
-        :class:`Summary`).
+        The recommended still-water levels with datum, epoch, method and verdict (mapping keys as the fields
+        of :class:`Summary`).
     sections : iterable of Section
         The body, in order (figures numbered through the page, as are tables).
     cautions : iterable of str
-        Cautions shown in their own box (from :func:`extremes.report.cautions.standard_cautions`).
-    provenance : mapping
-        Inputs, their sha256, options and software version; nested values are shown as JSON.
+        Cautions shown in their own box right after the summary.
+    provenance : mapping or pandas.DataFrame
+        Inputs, their sha256, options and software version, shown as a two-column table (nested mappings
+        give one row per entry; see :func:`provenance_rows`).
+    appendices : iterable of Section
+        Long tables, after the body (lettered A, B, ...).
+    made : str, optional
+        Date the report was made, shown under the title.
 
     Returns
     -------
@@ -251,42 +329,36 @@ def render_report(*, title: str, summary, sections, cautions, provenance: Mappin
         The HTML document (UTF-8 text). It has no script and loads nothing from outside.
     """
     summary = _summary(summary)
-    sections = list(sections)
-    for section in sections:
+    sections, appendices = list(sections), list(appendices)
+    for section in sections + appendices:
         if not isinstance(section, Section):
             raise DataError(f"report sections: expected Section objects; got {type(section).__name__}")
+    provenance = provenance_rows(provenance)
     esc = html.escape
+    epoch = epoch_text(summary.epoch_year)
     parts = ["<!DOCTYPE html>", '<html lang="en">', "<head>", '<meta charset="utf-8">',
              '<meta name="viewport" content="width=device-width, initial-scale=1">',
              f"<title>{esc(title)}</title>", f"<style>{_CSS}</style>", "</head>", "<body>",
-             f"<header><h1>{esc(title)}</h1>"]
-    epoch = "not stated" if summary.epoch_year is None else f"{summary.epoch_year:.1f}"
-    parts.append(f'<p class="meta">Still-water levels in metres above {esc(summary.datum)}; mean-sea-level '
-                 f"epoch {esc(epoch)}; times in UTC.</p></header>")
-
+             f"<header><h1>{esc(title)}</h1>",
+             f'<p class="meta">Still-water levels in metres above {esc(summary.datum)}; mean-sea-level '
+             f"epoch {esc(epoch)}; times in UTC" + (f"; report made {esc(made)}" if made else "") + ".</p></header>"]
     figure_no = table_no = 0
-    parts.append('<section class="box summary" id="summary"><h2>Summary</h2>')
-    parts.append(f"<p><strong>Recommended method:</strong> {esc(summary.recommended_method)}. "
-                 f"<strong>Datum:</strong> {esc(summary.datum)}. <strong>Mean-sea-level epoch:</strong> "
-                 f"{esc(epoch)}.</p>")
-    for text in summary.paragraphs:
-        parts.append(f"<p>{esc(str(text))}</p>")
-    if len(summary.levels):
-        table_no += 1
-        parts.append(_table_html(summary.levels, "Recommended still-water return levels "
-                                 f"({summary.recommended_method}; {summary.datum}; epoch {epoch})", table_no))
-    parts.append("</section>")
-
+    table_no += bool(len(summary.levels))
+    parts.append(_summary_html(summary, table_no))
     parts.append('<section class="box cautions" id="cautions"><h2>Cautions</h2><ul>')
     parts.extend(f"<li>{esc(str(text))}</li>" for text in cautions)
     parts.append("</ul></section>")
 
-    if sections:
+    numbered = [(str(i), s) for i, s in enumerate(sections, 1)] + [
+        (chr(ord("A") + i), s) for i, s in enumerate(appendices)]
+    if numbered:
         parts.append('<nav aria-label="Contents"><h2>Contents</h2><ol>')
-        parts.extend(f'<li><a href="#section-{i}">{esc(s.title)}</a></li>' for i, s in enumerate(sections, 1))
+        parts.extend(f'<li><a href="#section-{key}">{"Appendix " if key.isalpha() else ""}{key}. '
+                     f"{esc(s.title)}</a></li>" for key, s in numbered)
         parts.append('<li><a href="#provenance">Provenance</a></li></ol></nav>')
-    for i, section in enumerate(sections, 1):
-        parts.append(f'<section id="section-{i}"><h2>{i}. {esc(section.title)}</h2>')
+    for key, section in numbered:
+        label = f"Appendix {key}" if key.isalpha() else key
+        parts.append(f'<section id="section-{key}"><h2>{label}. {esc(section.title)}</h2>')
         parts.extend(f"<p>{esc(str(text))}</p>" for text in section.paragraphs)
         for item in section.figures:
             figure_no += 1
@@ -296,10 +368,15 @@ def render_report(*, title: str, summary, sections, cautions, provenance: Mappin
             parts.append(_table_html(item.frame, item.caption, table_no))
         parts.append("</section>")
 
-    parts.append('<section class="box provenance" id="provenance"><h2>Provenance</h2><dl>')
-    for key, value in dict(provenance).items():
-        parts.append(f"<dt>{esc(str(key))}</dt><dd>{_provenance_value(value)}</dd>")
-    parts.append("</dl></section>")
-    parts.append("</body></html>")
+    parts.append('<section class="box provenance" id="provenance"><h2>Provenance</h2>')
+    parts.append(_table_html(provenance, "Inputs, options and software of these results", table_no + 1))
+    parts.append("</section></body></html>")
     logger.debug("report %r: %d sections, %d figures, %d tables", title, len(sections), figure_no, table_no)
     return "\n".join(parts) + "\n"
+
+
+def render_html(content) -> str:
+    """The HTML page of a :class:`extremes.report.content.ReportContent`."""
+    return render_report(title=content.title, summary=content.summary, sections=content.sections,
+                         cautions=content.cautions, provenance=content.provenance, appendices=content.appendices,
+                         made=content.made)

@@ -74,7 +74,7 @@ def test_record_figure_marks_flags_and_gaps(hourly):
     ax = fig.axes[0]
     assert len(ax.lines) == 1
     assert len(ax.collections) == 2  # one marker set per flag
-    labels = [t.get_text() for t in ax.get_legend().get_texts()]
+    labels = [t.get_text() for t in fig.legends[0].get_texts()]
     assert "spike (3)" in labels and "missing (20, no value)" in labels and "gap (1)" in labels
     assert figures.to_png(fig).startswith(PNG_SIGNATURE)
     with pytest.raises(DataError, match="one per row"):
@@ -139,7 +139,7 @@ def test_methods_comparison_figure():
     ax = fig.axes[0]
     assert len(fig.axes) == 1 and len(ax.lines) == 3 and len(ax.collections) == 2
     assert ax.get_xscale() == "log"
-    assert any("recommended" in t.get_text() for t in ax.get_legend().get_texts())
+    assert any("recommended" in t.get_text() for t in fig.legends[0].get_texts())
     fig = figures.methods_comparison_figure([gumbel_curve()])
     assert len(fig.axes[0].lines) == 1
     with pytest.raises(DataError):
@@ -168,4 +168,70 @@ def test_to_png_is_small_valid_png():
     data = figures.to_png(fig)
     assert data.startswith(PNG_SIGNATURE) and 5_000 < len(data) < 300_000
     width, height = int.from_bytes(data[16:20], "big"), int.from_bytes(data[20:24], "big")
-    assert (width, height) == (900, 550)  # 9 x 5.5 inches at 100 dpi
+    assert (width, height) == (840, 552)  # 7 x 4.6 inches at plotstyle.DPI = 120
+
+
+def test_offsets_figure_encounter_matches_closed_form():
+    curve = gumbel_curve()
+    fig = figures.offsets_figure(curve, offsets_m=[0.0, 0.5], design_life_years=50, accepted_risk=0.1)
+    ax_curve, ax_prob = fig.axes
+    # raised curves: every level plus the offset (offset rule, Hunter 2012)
+    np.testing.assert_allclose(ax_curve.lines[1].get_ydata() - ax_curve.lines[0].get_ydata(), 0.5)
+    # no rise: 1 - (1 - 0.01)^50 = 0.395 for the 100-year level (METHODS sec. 11 [C], 1 - 0.99^50)
+    assert ax_prob.lines[0].get_ydata()[-1] == pytest.approx(1 - 0.99**50, abs=1e-3)
+    assert ax_prob.lines[1].get_ydata()[-1] > ax_prob.lines[0].get_ydata()[-1]
+    with pytest.raises(DataError, match="offset"):
+        figures.offsets_figure(curve, offsets_m=[], design_life_years=50, accepted_risk=0.1)
+
+
+def _every_figure(hourly):
+    observed, predicted = hourly
+    curve = gumbel_curve()
+    flags = np.full(observed.size, "ok", dtype=object)
+    flags[100:103] = "spike"
+    skew = pd.Series(np.linspace(-0.1, 0.4, 100),
+                     index=pd.date_range("2020-01-01", periods=100, freq="745min", tz="UTC"))
+    curves = {name: gumbel_curve(loc=3.0 + 0.02 * i, method=name) for i, name in enumerate(
+        ["annual-maxima", "peaks-over-threshold", "r-largest", "joint-probability", "skew-surge-joint-probability"])}
+    long_datum = "Orrindale Gauge Zero (invented)"
+    return {
+        "record": figures.record_figure(observed, flags=flags, datum=long_datum),
+        "tide": figures.tide_fit_figure(observed, predicted, datum=long_datum, segment_days=16),
+        "residual": figures.residual_figure(observed - predicted, skew_surge_m=skew),
+        "diagnostics": figures.fit_diagnostics_figure(stats.gumbel_r.rvs(3, 0.2, size=30, random_state=1), curve),
+        "methods": figures.methods_comparison_figure(curves, recommended="skew-surge-joint-probability",
+                                                     observed_m=[3.0, 3.1, 3.3]),
+        "scenarios": figures.sea_level_rise_figure(curve, years=[2020, 2060, 2100],
+                                                   rise_m={"low": [0, 0.1, 0.3], "central": [0, 0.2, 0.6],
+                                                           "high": [0, 0.4, 1.0]}),
+        "offsets": figures.offsets_figure(curve, offsets_m=[0.0, 0.25, 0.5, 1.0], design_life_years=50,
+                                          accepted_risk=0.1),
+    }
+
+
+def test_every_figure_keeps_its_text_inside_and_legends_off_the_data(hourly):
+    # matplotlib's own renderer extents (Agg): titles, axis labels, tick labels and legends lie inside the
+    # figure, and no legend overlaps an axes' plotting area
+    from extremes.report.plotstyle import PALETTE, layout_problems
+
+    for name, fig in _every_figure(hourly).items():
+        assert layout_problems(fig) == [], name
+        for ax in fig.axes:
+            assert ax.get_ylabel() or ax.get_xlabel(), name
+    # the check does find a title that runs off and a legend over the data
+    from extremes.report.plotstyle import new_figure
+    fig = new_figure(3, 2)
+    ax = fig.add_subplot()
+    ax.plot([0, 1], [0, 1], label="a line")
+    ax.set_title("a title far too long for a figure three inches wide, running off both of its edges")
+    ax.legend(loc="center")
+    problems = layout_problems(fig)
+    assert any("title" in p for p in problems) and any("covers" in p for p in problems)
+    assert len(set(PALETTE)) == len(PALETTE) and "#F0E442" not in PALETTE  # Okabe-Ito without yellow
+
+
+def test_level_axes_name_their_datum(hourly):
+    figs = _every_figure(hourly)
+    assert "Orrindale Gauge Zero (invented)" in figs["record"].axes[0].get_ylabel().replace("\n", " ")
+    for name in ("diagnostics", "methods", "offsets"):
+        assert any("[m above TEST]" in ax.get_ylabel() for ax in figs[name].axes), name

@@ -74,8 +74,9 @@ def test_report_is_self_contained_and_complete():
     assert "Figure 1. The record" in text and "Figure 2. Diagnostics" in text
     assert "Table 1." in text and "Table 2. Parameters" in text
     for needle in ("Recommended method:", "annual-maxima", "ODN", "2020.5", "Still water only <b>",
-                   "Local codes govern", "ab" * 32, "0.1.0", '"periods_years"'):
+                   "Local codes govern", "ab" * 32, "0.1.0", "options: periods [years]", "10, 100"):
         assert needle in text, needle
+    assert '"periods_years"' not in text and "{" not in page.split("</style>")[1]  # provenance is no JSON
     assert tags.count("section") == 5  # summary, cautions, 2 sections, provenance
     assert "http://" not in page and "https://" not in page
 

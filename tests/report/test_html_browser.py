@@ -96,8 +96,8 @@ def test_report_loads_and_shows_every_figure(tmp_path, report_page):
     assert found, result.stdout[-2000:]
     check = dict(item.split("=", 1) for item in found.group(1).split())
     assert check["images"] == "3" and check["shown"] == "3", found.group(1)
-    assert check["tables"] == "2"
-    assert [int(w) for w in check["widths"].split(",")] == [1000, 1200, 1100]  # figure inches x 100 dpi
+    assert check["tables"] == "3"  # two and the provenance
+    assert [int(w) for w in check["widths"].split(",")] == [840, 840, 840]  # 7-inch figures x plotstyle.DPI
     assert "Browser check station" in result.stdout and "Cautions" in result.stdout
 
 
@@ -112,3 +112,55 @@ def test_report_screenshot(tmp_path, report_page):
     assert data.startswith(b"\x89PNG\r\n\x1a\n") and len(data) > 20_000  # a blank page compresses to a few kB
     if os.environ.get("EXTREMES_KEEP_SCREENSHOT"):
         shutil.copy(shot, os.environ["EXTREMES_KEEP_SCREENSHOT"])
+
+
+# After load: the summary table's cells, where the verdict and the cautions box sit, and every image shown.
+STUDY_SCRIPT = """
+<script>
+window.addEventListener("load", function () {
+  var imgs = Array.prototype.slice.call(document.images);
+  var shown = imgs.filter(function (im) {
+    var box = im.getBoundingClientRect();
+    return im.complete && im.naturalWidth > 0 && box.width > 0 && box.height > 0;
+  });
+  var cells = Array.prototype.slice.call(document.querySelectorAll("#summary table tbody tr")).map(
+    function (tr) { return Array.prototype.slice.call(tr.cells).map(function (td) { return td.textContent; }).join("|"); });
+  var top = function (sel) { var el = document.querySelector(sel); return el ? Math.round(el.getBoundingClientRect().top) : -1; };
+  var out = {images: imgs.length, shown: shown.length, rows: cells, verdict: top(".verdict"),
+             table: top("#summary table"), cautions: top("#cautions"), firstSection: top("#section-1"),
+             text: document.body.innerText};
+  var pre = document.createElement("pre");
+  pre.id = "check";
+  pre.textContent = JSON.stringify(out);
+  document.body.appendChild(pre);
+});
+</script>
+"""
+
+
+def test_study_report_first_screen_in_the_browser(tmp_path, study_folder):
+    import html as html_module
+    import json
+
+    from .conftest import OBJECT_TEXT
+
+    document = json.loads((study_folder / "results.json").read_text())
+    page = (study_folder / "report.html").read_text(encoding="utf-8").replace("</body>", STUDY_SCRIPT + "</body>")
+    path = tmp_path / "study.html"
+    path.write_text(page, encoding="utf-8")
+    result = _chromium(["--window-size=1280,1000", "--dump-dom", path.as_uri()], tmp_path / "profile")
+    assert result.returncode == 0, result.stderr[-2000:]
+    found = re.search(r'<pre id="check">([^<]*)</pre>', result.stdout)
+    assert found, result.stdout[-2000:]
+    check = json.loads(html_module.unescape(found.group(1)))
+    assert check["images"] == check["shown"] >= 6
+    # the first screen (1000 px): levels table and verdict; the cautions start on it, before any section
+    assert 0 < check["table"] < 400 and 0 < check["verdict"] < 400
+    assert check["cautions"] < 1000 and check["cautions"] < check["firstSection"]
+    method = document["recommended_method"]
+    expected = [f"{r['return_period_years']:g}|" + "|".join("–" if r[k] is None else f"{r[k]:.3f}"
+                                                          for k in ("level_m", "lower_m", "upper_m"))
+                for r in document["return_levels"] if r["method"] == method]
+    assert check["rows"] == expected
+    assert not OBJECT_TEXT.search(check["text"]), OBJECT_TEXT.search(check["text"]).group(0)
+    assert "Provenance" in check["text"] and "Appendix A" in check["text"]
