@@ -63,6 +63,9 @@ def _curve(document: dict, method: str):
 def record_section(document: dict, figures: tuple) -> Section:
     """The record, its sampling and its faults."""
     rec = document.get("record") or {}
+    if rec.get("n_samples") is None:
+        return Section(title="The record and its quality",
+                       paragraphs=("These results hold no description of the record (key 'record').",), figures=figures)
     flags = {k: v for k, v in (rec.get("flags") or {}).items() if k != "gap_hours"}
     flag_rows = [("ok (used)", rec.get("n_ok"))] if rec.get("n_ok") is not None else []
     flag_rows += [(name.replace("_", " "), count) for name, count in flags.items()]
@@ -287,10 +290,10 @@ def sea_level_rise_section(document: dict, figures: tuple) -> Section:
     ]
     allowance = details.get("allowance")
     if isinstance(allowance, dict) and isinstance(allowance.get("allowance"), dict):
-        a = allowance["allowance"]
+        a = {k: (v if isinstance(v, (int, float)) else float("nan")) for k, v in allowance["allowance"].items()}
         paragraphs.append(f"Allowance for the uncertain rise over the design life (Hunter 2012): "
-                          f"{a.get('allowance_m', float('nan')):.3f} m (mean rise {a.get('mean_rise_m', float('nan')):.3f} m, "
-                          f"standard deviation {a.get('sd_rise_m', float('nan')):.3f} m); assumption: "
+                          f"{a.get('allowance_m', np.nan):.3f} m (mean rise {a.get('mean_rise_m', np.nan):.3f} m, "
+                          f"standard deviation {a.get('sd_rise_m', np.nan):.3f} m); assumption: "
                           f"{allowance.get('assumption', '')}.")
     tables = [TableItem(sea_level_rise_table(document), "Sea-level-rise offsets on the recommended levels.")]
     scenarios = [s for s in details.get("scenarios") or () if isinstance(s, dict)]

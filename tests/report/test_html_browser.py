@@ -124,8 +124,13 @@ window.addEventListener("load", function () {
     return im.complete && im.naturalWidth > 0 && box.width > 0 && box.height > 0;
   });
   var cells = Array.prototype.slice.call(document.querySelectorAll("#summary table tbody tr")).map(
-    function (tr) { return Array.prototype.slice.call(tr.cells).map(function (td) { return td.textContent; }).join("|"); });
-  var top = function (sel) { var el = document.querySelector(sel); return el ? Math.round(el.getBoundingClientRect().top) : -1; };
+    function (tr) {
+      return Array.prototype.slice.call(tr.cells).map(function (td) { return td.textContent; }).join("|");
+    });
+  var top = function (sel) {
+    var el = document.querySelector(sel);
+    return el ? Math.round(el.getBoundingClientRect().top) : -1;
+  };
   var out = {images: imgs.length, shown: shown.length, rows: cells, verdict: top(".verdict"),
              table: top("#summary table"), cautions: top("#cautions"), firstSection: top("#section-1"),
              text: document.body.innerText};

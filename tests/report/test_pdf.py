@@ -107,8 +107,12 @@ def test_text_stays_inside_what_prints_on_a4_and_letter(study_folder, paper):
     for page in reader.pages:
         assert float(page.mediabox.width) == pytest.approx(width * MM, abs=0.5)
         positions = []
-        page.extract_text(visitor_text=lambda text, cm, tm, font, size: positions.append(
-            (tm[4] * cm[0] + cm[4], tm[5] * cm[3] + cm[5], text)) if text.strip() else None)
+
+        def visit(text, cm, tm, font, size, found=positions):
+            if text.strip():
+                found.append((tm[4] * cm[0] + cm[4], tm[5] * cm[3] + cm[5], text))
+
+        page.extract_text(visitor_text=visit)
         assert positions
         for x, y, text in positions:
             assert safe_x * MM <= x <= (width - safe_x) * MM, (text, x / MM)
