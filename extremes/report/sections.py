@@ -235,20 +235,38 @@ def sea_level_rise_table(document: dict) -> pd.DataFrame:
     """One row per offset: the raised 100-year level, its present return period, the chance that today's
     100-year level is exceeded during the design life, and the design level for the accepted risk.
 
-    Values come from the results document (``sea_level_rise`` and ``sea_level_rise_details``); an offset
-    whose encounter probability or design level the document lacks gets it from the saved curve with
+    Values come from the results document (``sea_level_rise_details.by_offset``); results made before it
+    existed give what they hold (``sea_level_rise``, ``encounter``, ``design_levels``) and an offset whose
+    encounter probability or design level they lack gets it from the saved curve with
     :mod:`extremes.sealevel` (the functions the study uses).
     """
+    details = document.get("sea_level_rise_details") or {}
+    life = int(details.get("design_life_years") or 50)
+    risk = float(details.get("accepted_risk") or 0.1)
+    if details.get("by_offset"):
+        return pd.DataFrame([_offset_row(row["offset_m"], row["level_100_m"], row.get("present_return_period_years"),
+                                         row["encounter_probability_of_present_100yr_level"],
+                                         row.get("design_level_m"), life=life, risk=risk)
+                             for row in details["by_offset"]])
+    return _offsets_from_rows(document, details, life=life, risk=risk)
+
+
+def _offset_row(offset, level, present, probability, design_m, *, life: int, risk: float) -> dict:
+    return {"offset_m": float(offset), f"{DESIGN_PERIOD_YEARS:g}-year level with the offset_m": level,
+            "present return period of that level_years": present,
+            f"chance today's {DESIGN_PERIOD_YEARS:g}-year level is exceeded in {life} years_percent":
+                None if probability is None else 100 * probability,
+            f"design level for {risk:.0%} risk in {life} years_m": design_m}
+
+
+def _offsets_from_rows(document: dict, details: dict, *, life: int, risk: float) -> pd.DataFrame:
     from extremes import sealevel
     from extremes.errors import DataError
 
     rows = pd.DataFrame(document.get("sea_level_rise") or [])
-    details = document.get("sea_level_rise_details") or {}
     curve = _curve(document, details.get("method") or document.get("recommended_method"))
     if rows.empty or curve is None:
         return pd.DataFrame()
-    life = int(details.get("design_life_years") or 50)
-    risk = float(details.get("accepted_risk") or 0.1)
     level_today = float(details.get("level_100_m") or curve.level_at([DESIGN_PERIOD_YEARS])[0])
     out = []
     for offset in sorted(set(rows["offset_m"].astype(float))):
@@ -267,11 +285,7 @@ def sea_level_rise_table(document: dict) -> pd.DataFrame:
                                                  rise_m=offset).level_m
             except DataError as err:
                 logger.info("design level for offset %g m not available: %s", offset, err)
-        out.append({"offset_m": offset, f"{DESIGN_PERIOD_YEARS:g}-year level with the offset_m": level,
-                    "present return period of that level_years": present,
-                    f"chance today's {DESIGN_PERIOD_YEARS:g}-year level is exceeded in {life} years_percent":
-                        100 * probability,
-                    f"design level for {risk:.0%} risk in {life} years_m": design_m})
+        out.append(_offset_row(offset, level, present, probability, design_m, life=life, risk=risk))
     return pd.DataFrame(out)
 
 

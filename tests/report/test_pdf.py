@@ -73,12 +73,16 @@ def test_sea_level_rise_is_one_table_of_offsets(study_folder):
     document = _document(study_folder)
     whole = " ".join(_pages((study_folder / "report.pdf").read_bytes()))
     assert "EncounterProbability" not in whole and "DesignLevel" not in whole
-    details = document["sea_level_rise_details"]
-    level_100 = details["level_100_m"]
-    for offset, encounter, design in zip((0.0, 0.5, 1.0), details["encounter"], details["design_levels"]):
-        # offset, raised 100-year level, (present period), encounter probability [%], design level: one row
-        assert f"{offset:.3f} {level_100 + offset:.3f}" in whole
-        assert f"{100 * encounter['probability']:.1f} {design['level_m']:.3f}" in whole
+    by_offset = document["sea_level_rise_details"]["by_offset"]
+    assert [row["offset_m"] for row in by_offset] == [0.0, 0.5, 1.0]
+    for row in by_offset:
+        # one row: offset, raised 100-year level, its present return period, chance that today's 100-year
+        # level is exceeded over the design life [%], design level for the accepted risk
+        present = row["present_return_period_years"]
+        expected = (f"{row['offset_m']:.3f} {row['level_100_m']:.3f} "
+                    + ("–" if present is None else f"{present:.4g}")
+                    + f" {100 * row['encounter_probability_of_present_100yr_level']:.1f} {row['design_level_m']:.3f}")
+        assert expected in whole, expected
 
 
 def test_tables_and_figures_that_fit_a_page_are_not_cut(study_folder):
