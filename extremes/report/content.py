@@ -212,7 +212,9 @@ def report_content(document: dict, figures: Mapping[str, bytes] | None = None, *
         fits_section(document, tuple(item for key in sorted(figures) if key.startswith("fit_")
                                      for item in _figure(figures, key, f"Diagnostics of the {key[4:]} fit: "
                                                          "probability plot, quantile plot and return-level plot "
-                                                         "with the observed points."))),
+                                                         "with the observed points"
+                                                         + (" (the largest event of each year)."
+                                                            if key == "fit_r-largest" else ".")))),
         methods_section(document, _figure(figures, "methods")),
         sea_level_rise_section(document, _figure(figures, "sea_level_rise")
                                + _figure(figures, "sea_level_rise_scenarios")),

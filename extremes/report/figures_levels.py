@@ -200,7 +200,9 @@ def methods_comparison_figure(curves, *, recommended: str | None = None, observe
         keep = (curve.periods_years >= periods_range[0]) & (curve.periods_years <= periods_range[1])
         _band(ax, curve, keep, look["color"], alpha=0.10)
         best = label == recommended
-        ax.plot(curve.periods_years[keep], curve.level_m[keep], lw=2.6 if best else 1.3, **look,
+        if best:  # the recommended curve: solid and thickest, whatever its place in the cycle
+            look = {**look, "ls": "-"}
+        ax.plot(curve.periods_years[keep], curve.level_m[keep], lw=2.8 if best else 1.3, **look,
                 label=f"{label} ({curve.period_definition})" + (", recommended" if best else ""))
     if observed_m is not None:
         levels, periods = return_periods_gringorten(observed_m, record_years=record_years)

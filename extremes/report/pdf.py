@@ -106,6 +106,7 @@ class _Writer:
         if pdf.y + keep_mm > pdf.page_break_trigger:  # a heading never ends a page
             pdf.add_page()
         pdf.ln(2)
+        pdf.start_section(text)  # an entry in the PDF's outline (bookmarks)
         pdf.set_font("DejaVu", "B", size)
         pdf.multi_cell(0, size * 0.5, text, new_x="LMARGIN", new_y="NEXT")
         pdf.ln(1)

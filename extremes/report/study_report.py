@@ -69,6 +69,10 @@ def _fit_jobs(result, figures) -> list[tuple[str, Callable]]:
         sample = getattr(detail, "sample", None)
         if detail is None or sample is None:
             continue
+        if method == "r-largest" and isinstance(sample, pd.Series) and sample.index.nlevels > 1:
+            # the r largest of each year, stacked by (year, rank): the largest of each year follows the
+            # fitted GEV (Coles 2001, sec. 3.5), so that is what its probability and quantile plots compare
+            sample = sample.groupby(level=0).max()
         values = sample.to_numpy() if hasattr(sample, "to_numpy") else np.asarray(sample)
         values = values[:, 0] if values.ndim == 2 else values
         jobs.append((f"fit_{method}", functools.partial(
