@@ -280,6 +280,8 @@ def _verdict_html(assessment) -> str:
     reasons = list(assessment.get("reasons") or ())
     if reasons:
         parts.append('<ul class="reasons">' + "".join(f"<li>{esc(str(r))}</li>" for r in reasons) + "</ul>")
+    if assessment.get("checks"):
+        parts.append(f'<p class="meta">{esc(str(assessment["checks"]))}</p>')
     return "".join(parts)
 
 

@@ -233,6 +233,11 @@ def _first_page(writer: _Writer, content):
         for reason in assessment.get("reasons") or ():
             pdf.set_x(pdf.l_margin + 2)
             pdf.multi_cell(pdf.epw - 4, 3.8, f"• {reason}", new_x="LMARGIN", new_y="NEXT")
+        if assessment.get("checks"):
+            pdf.set_x(pdf.l_margin + 2)
+            pdf.set_text_color(70)
+            pdf.multi_cell(pdf.epw - 4, 3.8, assessment["checks"], new_x="LMARGIN", new_y="NEXT")
+            pdf.set_text_color(0)
         pdf.rect(pdf.l_margin, y0 - 1.5, pdf.epw, pdf.y - y0 + 3)
         pdf.set_line_width(0.2)
         pdf.set_draw_color(0)

@@ -40,8 +40,10 @@ def assessment_of(document: dict) -> dict:
         return {"status": "not assessed", "reasons": (),
                 "text": "NOT ASSESSED: these results carry no plausibility verdict (made by a version "
                         "without the checks); review the levels against the record before use."}
+    checks = [str(c) for c in found.get("checks") or ()]
     return {"status": found["status"], "text": VERDICTS[found["status"]],
-            "reasons": tuple(str(r) for r in found.get("reasons") or ())}
+            "reasons": tuple(str(r) for r in found.get("reasons") or ()),
+            "checks": f"Checks run: {', '.join(checks)}." if checks else ""}
 
 
 def return_levels(document: dict, method: str) -> pd.DataFrame:

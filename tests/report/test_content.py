@@ -94,6 +94,12 @@ def test_assessment_is_read_from_the_document():
     assert assessment_of(document)["status"] == "not assessed"
     document["assessment"] = {"status": "ok", "reasons": []}
     assert assessment_of(document)["text"].startswith("OK")
-    document["assessment"] = {"status": "check", "reasons": ["short record"]}
+    document["assessment"] = {"status": "check", "reasons": ["short record"],
+                              "checks": ["fitted-shape", "record-length"]}
     found = assessment_of(document)
     assert found["text"].startswith("CHECK") and found["reasons"] == ("short record",)
+    assert found["checks"] == "Checks run: fitted-shape, record-length."
+    page = render_html(report_content(json.loads(json.dumps(document)), {}))
+    assert "short record" in page and "Checks run: fitted-shape, record-length." in page
+    document["assessment"] = {"status": "fine", "reasons": []}  # not a contract status: said so
+    assert assessment_of(document)["status"] == "not assessed"
