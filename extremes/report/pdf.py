@@ -129,11 +129,13 @@ class _Writer:
         columns = [str(c) for c in frame.columns]
         header = [column_label(c) for c in columns]
         body = [[format_cell(v, c) for v, c in zip(row, columns)] for row in frame.itertuples(index=False, name=None)]
+        pdf.set_font("DejaVu", "B", _TABLE_PT)
+        heads = [min(pdf.get_string_width(name), 40.0) for name in header]
         pdf.set_font("DejaVu", "", _TABLE_PT)
         natural = []
-        for k, name in enumerate(header):
+        for k, head in enumerate(heads):
             longest = max([pdf.get_string_width(r[k]) for r in body] or [0.0])
-            natural.append(max(min(longest, 60.0), min(pdf.get_string_width(name), 40.0), 8.0) + 2 * _PAD_MM + 1)
+            natural.append(max(min(longest, 60.0), head, 8.0) + 2 * _PAD_MM + 1)
         total = min(width, sum(natural), pdf.epw) - 1e-6
         widths = [w * total / sum(natural) for w in natural]
         align = tuple("LEFT" if k == 0 or not _numeric(body, k) else "RIGHT" for k in range(len(header)))

@@ -62,6 +62,24 @@ def _curve(document: dict, method: str):
 
 
 # ------------------------------------------------------------------------------------------------------
+def _when(text) -> str:
+    """An ISO 8601 time as ``YYYY-MM-DD HH:MM`` (UTC); other text as it is."""
+    try:
+        return pd.Timestamp(text).tz_convert("UTC").strftime("%Y-%m-%d %H:%M") if text else "–"
+    except (ValueError, TypeError):
+        return str(text)
+
+
+def _times(frame: pd.DataFrame) -> pd.DataFrame:
+    """Columns of ISO 8601 times (``start``, ``end``, ``time``) as UTC timestamps, shown to the minute."""
+    frame = frame.copy()
+    for column in ("start", "end", "time"):
+        if column in frame:
+            frame[column] = pd.to_datetime(frame[column], utc=True, errors="coerce").astype(object).where(
+                lambda c: c.notna(), None)
+    return frame
+
+
 def record_section(document: dict, figures: tuple) -> Section:
     """The record, its sampling and its faults."""
     rec = document.get("record") or {}
@@ -74,7 +92,9 @@ def record_section(document: dict, figures: tuple) -> Section:
     years = document.get("record_years")
     paragraphs = [
         f"Record {(document.get('inputs') or {}).get('record', '')}: {rec.get('n_samples')} rows from "
-        f"{rec.get('start')} to {rec.get('end')} (UTC), sampling interval {rec.get('interval_minutes')} minutes"
+        f"{_when(rec.get('start'))} to {_when(rec.get('end'))} (UTC), sampling interval "
+        + (f"{rec['interval_minutes']:g} minutes" if isinstance(rec.get("interval_minutes"), (int, float))
+           else "unknown")
         + (f", {years:.1f} years of valid data." if isinstance(years, (int, float)) else "."),
         f"Every row has one flag; the counts add up to the rows read. {rec.get('n_flagged')} rows were flagged "
         f"and {rec.get('n_missing')} held no reading; flagged readings are left out of the analysis, not deleted. "
@@ -84,18 +104,21 @@ def record_section(document: dict, figures: tuple) -> Section:
     ]
     tables = [TableItem(pd.DataFrame(flag_rows, columns=["flag", "rows"]), "Rows by quality flag.")]
     if rec.get("sampling"):
-        tables.append(TableItem(pd.DataFrame(rec["sampling"]), "Eras of constant sampling interval."))
+        eras = pd.DataFrame(rec["sampling"]).rename(columns={"n_stamps": "readings"})
+        eras = eras[[c for c in ("start", "end", "interval_minutes", "readings") if c in eras]]
+        tables.append(TableItem(_times(eras), "Eras of constant sampling interval."))
     if rec.get("timing_offsets"):
-        tables.append(TableItem(pd.DataFrame(rec["timing_offsets"]),
+        tables.append(TableItem(_times(pd.DataFrame(rec["timing_offsets"])),
                                 "Spans whose tide runs early or late (stamps ahead of true time)."))
     if rec.get("corrections"):
-        tables.append(TableItem(pd.DataFrame(rec["corrections"]), "Corrections applied before quality control."))
+        tables.append(TableItem(_times(pd.DataFrame(rec["corrections"])),
+                                "Corrections applied before quality control."))
     if rec.get("datum_shift_candidates"):
         paragraphs.append("Candidate datum shifts are step changes in monthly means; the test also responds to "
                           "real year-to-year changes of mean sea level. Check each against the gauge's levelling "
                           "history before relying on the levels.")
         shifts = pd.DataFrame(rec["datum_shift_candidates"]).rename(columns={"statistic": "test_statistic"})
-        tables.append(TableItem(shifts, "Candidate datum shifts (size: the step up at the time)."))
+        tables.append(TableItem(_times(shifts), "Candidate datum shifts (size: the step up at the time)."))
     return Section(title="The record and its quality", paragraphs=tuple(paragraphs), figures=figures,
                    tables=tuple(tables))
 
