@@ -235,3 +235,13 @@ def test_level_axes_name_their_datum(hourly):
     assert "Orrindale Gauge Zero (invented)" in figs["record"].axes[0].get_ylabel().replace("\n", " ")
     for name in ("diagnostics", "methods", "offsets"):
         assert any("[m above TEST]" in ax.get_ylabel() for ax in figs[name].axes), name
+
+
+def test_series_differ_by_more_than_colour(hourly):
+    # readable in greyscale print: within each axes, no two labelled lines share dash pattern, marker and width
+    figs = _every_figure(hourly)
+    for name in ("methods", "offsets", "tide", "diagnostics"):
+        for ax in figs[name].axes:
+            looks = [(str(line._dash_pattern), line.get_marker(), line.get_linewidth())  # noqa: SLF001 - as drawn
+                     for line in ax.get_lines() if not line.get_label().startswith("_")]
+            assert len(set(looks)) == len(looks), (name, looks)
