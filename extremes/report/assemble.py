@@ -9,9 +9,9 @@ from __future__ import annotations
 
 import datetime as _dt
 import logging
+from collections.abc import Mapping
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Mapping
 
 from extremes.errors import DataError
 

@@ -15,15 +15,23 @@ from __future__ import annotations
 
 import datetime as _dt
 import logging
+from collections.abc import Mapping
 from dataclasses import dataclass
-from typing import Mapping
 
 import pandas as pd
 
 from extremes.report.html import FigureItem, Section, Summary, TableItem
-from extremes.report.sections import (assessment_of, fits_section, methods_section, msl_section,
-                                      record_section, return_levels, sea_level_rise_section, surge_section,
-                                      tide_section)
+from extremes.report.sections import (
+    assessment_of,
+    fits_section,
+    methods_section,
+    msl_section,
+    record_section,
+    return_levels,
+    sea_level_rise_section,
+    surge_section,
+    tide_section,
+)
 
 logger = logging.getLogger(__name__)
 
@@ -219,7 +227,7 @@ def report_content(document: dict, figures: Mapping[str, bytes] | None = None, *
         sea_level_rise_section(document, _figure(figures, "sea_level_rise")
                                + _figure(figures, "sea_level_rise_scenarios")),
     ) if section is not None)
-    made = made or _dt.datetime.now(_dt.timezone.utc).date()
+    made = made or _dt.datetime.now(_dt.UTC).date()
     return ReportContent(title=f"Design still-water levels: {name}", summary=_summary(document),
                          cautions=tuple(document.get("cautions") or ()), sections=sections,
                          appendices=_appendices(document), provenance=provenance_table(document),

@@ -42,8 +42,13 @@ import pandas as pd
 
 from extremes.errors import DataError
 from extremes.report.figures_levels import (  # noqa: F401 - part of this module's interface
-    fit_diagnostics_figure, methods_comparison_figure, offsets_figure, plotting_positions_gringorten,
-    return_periods_gringorten, sea_level_rise_figure)
+    fit_diagnostics_figure,
+    methods_comparison_figure,
+    offsets_figure,
+    plotting_positions_gringorten,
+    return_periods_gringorten,
+    sea_level_rise_figure,
+)
 from extremes.report.plotstyle import MARKERS, PALETTE, legend_below, level_label, new_figure, to_png
 
 logger = logging.getLogger(__name__)

@@ -16,7 +16,7 @@ References
 from __future__ import annotations
 
 import logging
-from typing import Callable, Mapping
+from collections.abc import Callable, Mapping
 
 import numpy as np
 

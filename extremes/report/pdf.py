@@ -19,8 +19,8 @@ from __future__ import annotations
 
 import datetime as _dt
 import io
-import math
 import logging
+import math
 import struct
 from pathlib import Path
 
@@ -294,7 +294,7 @@ def render_pdf(content, *, paper: str = "A4", software: str = "", placements: li
     pdf.set_title(content.title)
     pdf.set_creator(software or "extremes")
     made = _dt.date.fromisoformat(content.made)
-    pdf.set_creation_date(_dt.datetime(made.year, made.month, made.day, tzinfo=_dt.timezone.utc))
+    pdf.set_creation_date(_dt.datetime(made.year, made.month, made.day, tzinfo=_dt.UTC))
     pdf.alias_nb_pages()
     pdf.add_page()
     writer = _Writer(pdf, placements)

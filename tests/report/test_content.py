@@ -10,6 +10,7 @@ import pytest
 from scipy import stats
 
 from extremes.curves import DENSE_PERIODS_YEARS, ReturnLevelCurve
+from extremes.errors import DataError
 from extremes.report import render_html
 from extremes.report.content import fold_table, provenance_table, report_content
 from extremes.report.sections import assessment_of, sea_level_rise_table
@@ -103,3 +104,24 @@ def test_assessment_is_read_from_the_document():
     assert "short record" in page and "Checks run: fitted-shape, record-length." in page
     document["assessment"] = {"status": "fine", "reasons": []}  # not a contract status: said so
     assert assessment_of(document)["status"] == "not assessed"
+
+
+def test_pdf_of_a_minimal_document():
+    # fpdf2 output read back with pypdf: the running header and footer on every page, the summary numbers
+    import io
+
+    from pypdf import PdfReader
+
+    from extremes.report.pdf import render_pdf
+
+    document = json.loads(json.dumps(_document()))
+    pdf = render_pdf(report_content(document, {}), software="extremes test")
+    pages = [" ".join(p.extract_text().split()) for p in PdfReader(io.BytesIO(pdf)).pages]
+    for number, text in enumerate(pages, 1):
+        assert "Design still-water levels: station.csv" in text and f"Page {number} of {len(pages)}" in text
+        assert "m above TEST" in text and "with extremes test" in text
+        assert not OBJECT_TEXT.search(text), OBJECT_TEXT.search(text).group(0)
+    row = document["return_levels"][1]
+    assert f"100 {row['level_m']:.3f} {row['lower_m']:.3f} {row['upper_m']:.3f}" in pages[0]
+    with pytest.raises(DataError, match="paper"):
+        render_pdf(report_content(document, {}), paper="A3")

@@ -143,6 +143,7 @@ window.addEventListener("load", function () {
 """
 
 
+@pytest.mark.slow  # a whole study (the session's study_folder)
 def test_study_report_first_screen_in_the_browser(tmp_path, study_folder):
     import html as html_module
     import json

@@ -22,6 +22,8 @@ from extremes.report.pdf import MARGINS_MM, PAGE_SIZES_MM, render_pdf
 
 from .conftest import OBJECT_TEXT
 
+pytestmark = pytest.mark.slow  # a whole study (the session's study_folder)
+
 MM = 72.0 / 25.4  # PDF points per millimetre
 
 
