@@ -233,6 +233,7 @@ margin-top:1.8em}.meta{color:#444;margin:0 0 .6em}
 .summary{background:#eef6ff;border:1px solid #9cc3ec}.cautions{background:#fff6e5;border:1px solid #e3b45b;
 font-size:.9em}.cautions li{margin:.15em 0}.provenance{background:#f6f8fa;border:1px solid #d0d7de}
 .columns{display:flex;flex-wrap:wrap;gap:0 2em}.columns>div{flex:1 1 22em}.summary p{margin:.35em 0}
+.columns>div:last-child{font-size:.93em}
 .verdict{font-weight:700;padding:.25em .6em;border-radius:4px;display:inline-block;border:2px solid}
 .verdict-ok{border-color:#009E73}.verdict-check{border-color:#E69F00;background:#fff3d6}
 .verdict-unreliable{border-color:#D55E00;background:#fde3d6}.verdict-not{border-color:#777}

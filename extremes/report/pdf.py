@@ -108,7 +108,7 @@ class _Writer:
         pdf.ln(2)
         pdf.start_section(text)  # an entry in the PDF's outline (bookmarks)
         pdf.set_font("DejaVu", "B", size)
-        pdf.multi_cell(0, size * 0.5, text, new_x="LMARGIN", new_y="NEXT")
+        pdf.multi_cell(0, size * 0.5, text, align="L", new_x="LMARGIN", new_y="NEXT")
         pdf.ln(1)
         pdf.set_font("DejaVu", "", _BODY_PT)
 
@@ -230,15 +230,15 @@ def _first_page(writer: _Writer, content):
         pdf.set_x(pdf.l_margin + 2)
         pdf.set_font("DejaVu", "B", 10.5)
         pdf.multi_cell(pdf.epw - 4, 5, f"Verdict: {assessment.get('text', assessment.get('status'))}",
-                       new_x="LMARGIN", new_y="NEXT")
+                       align="L", new_x="LMARGIN", new_y="NEXT")
         pdf.set_font("DejaVu", "", _SMALL_PT)
         for reason in assessment.get("reasons") or ():
             pdf.set_x(pdf.l_margin + 2)
-            pdf.multi_cell(pdf.epw - 4, 3.8, f"• {reason}", new_x="LMARGIN", new_y="NEXT")
+            pdf.multi_cell(pdf.epw - 4, 3.8, f"• {reason}", align="L", new_x="LMARGIN", new_y="NEXT")
         if assessment.get("checks"):
             pdf.set_x(pdf.l_margin + 2)
             pdf.set_text_color(70)
-            pdf.multi_cell(pdf.epw - 4, 3.8, assessment["checks"], new_x="LMARGIN", new_y="NEXT")
+            pdf.multi_cell(pdf.epw - 4, 3.8, assessment["checks"], align="L", new_x="LMARGIN", new_y="NEXT")
             pdf.set_text_color(0)
         pdf.rect(pdf.l_margin, y0 - 1.5, pdf.epw, pdf.y - y0 + 3)
         pdf.set_line_width(0.2)
