@@ -107,18 +107,25 @@ def record_section(document: dict, figures: tuple) -> Section:
         eras = pd.DataFrame(rec["sampling"]).rename(columns={"n_stamps": "readings"})
         eras = eras[[c for c in ("start", "end", "interval_minutes", "readings") if c in eras]]
         tables.append(TableItem(_times(eras), "Eras of constant sampling interval."))
+        if len(eras) > 1:
+            paragraphs.append("The record has several sampling eras: each is quality-controlled at its own "
+                              "interval, and readings are weighted by the time they represent.")
     if rec.get("timing_offsets"):
         tables.append(TableItem(_times(pd.DataFrame(rec["timing_offsets"])),
-                                "Spans whose tide runs early or late (stamps ahead of true time)."))
+                                "Clock faults found and not corrected, kept out of the tide and surge "
+                                "statistics (offset: how far the stamps run ahead of true time)."))
     if rec.get("corrections"):
-        tables.append(TableItem(_times(pd.DataFrame(rec["corrections"])),
-                                "Corrections applied before quality control."))
+        corrections = _times(pd.DataFrame(rec["corrections"]))
+        if "end" in corrections:
+            corrections["end"] = corrections["end"].where(corrections["end"].notna(), "end of record")
+        tables.append(TableItem(corrections,
+                                "Known corrections applied before quality control (from --corrections)."))
     if rec.get("datum_shift_candidates"):
-        paragraphs.append("Candidate datum shifts are step changes in monthly means; the test also responds to "
-                          "real year-to-year changes of mean sea level. Check each against the gauge's levelling "
-                          "history before relying on the levels.")
+        paragraphs.append("Candidate datum steps are step changes in monthly means beyond the year-to-year change "
+                          "of mean sea level. Check each against the gauge's levelling history before relying on "
+                          "the levels, and give a correction for a real one.")
         shifts = pd.DataFrame(rec["datum_shift_candidates"]).rename(columns={"statistic": "test_statistic"})
-        tables.append(TableItem(_times(shifts), "Candidate datum shifts (size: the step up at the time)."))
+        tables.append(TableItem(_times(shifts), "Candidate datum steps (size: the step up at the time)."))
     return Section(title="The record and its quality", paragraphs=tuple(paragraphs), figures=figures,
                    tables=tuple(tables))
 

@@ -125,3 +125,25 @@ def test_pdf_of_a_minimal_document():
     assert f"100 {row['level_m']:.3f} {row['lower_m']:.3f} {row['upper_m']:.3f}" in pages[0]
     with pytest.raises(DataError, match="paper"):
         render_pdf(report_content(document, {}), paper="A3")
+
+
+def test_record_eras_clock_faults_and_corrections_are_tables():
+    document = json.loads(json.dumps(_document()))
+    document["record"] = {
+        "n_samples": 1000, "start": "2000-01-01T00:00:00Z", "end": "2020-12-31T23:54:00Z", "interval_minutes": 6.0,
+        "n_flagged": 3, "n_missing": 1, "n_ok": 996, "flags": {"spike": 3, "gap_hours": 12.0}, "n_gaps": 2,
+        "sampling": [{"start": "2000-01-01T00:00:00Z", "end": "2009-12-31T23:00:00Z", "interval_minutes": 60.0,
+                      "n_stamps": 10}, {"start": "2010-01-01T00:00:00Z", "end": "2020-12-31T23:54:00Z",
+                                        "interval_minutes": 6.0, "n_stamps": 20}],
+        "timing_offsets": [{"start": "2003-03-01T00:00:00Z", "end": "2003-07-01T00:00:00Z", "offset_minutes": 60.0}],
+        "corrections": [{"start": "2005-01-01T00:00:00Z", "end": None, "add_m": 0.05, "shift_minutes": 0.0,
+                         "rows": 100}],
+    }
+    section = report_content(document, {}).sections[0]
+    assert "2000-01-01 00:00 to 2020-12-31 23:54" in section.paragraphs[0]
+    assert any("several sampling eras" in p for p in section.paragraphs)
+    captions = [t.caption for t in section.tables]
+    assert any(c.startswith("Clock faults") for c in captions) and any(c.startswith("Known corrections") for c in captions)
+    page = render_html(report_content(document, {}))
+    assert "end of record" in page and "2003-03-01 00:00 UTC" in page and "offset [min]" in page
+    assert not OBJECT_TEXT.search(page.split("</style>", 1)[1])
