@@ -179,7 +179,7 @@ class ReturnLevelCurve:
         )
 
     def table(self, periods_years) -> pd.DataFrame:
-        """Rows ``method, return_period_years, level_m, lower_m, upper_m, confidence`` at the periods."""
+        """Rows ``method, return_period_years, level_m, lower_m, upper_m, confidence, period_definition``."""
         periods = np.asarray(periods_years, dtype=float)
         return pd.DataFrame({
             "method": self.method,
@@ -188,7 +188,34 @@ class ReturnLevelCurve:
             "lower_m": self._interp(self.lower_m, periods),
             "upper_m": self._interp(self.upper_m, periods),
             "confidence": self.confidence,
+            "period_definition": self.period_definition,
         })
+
+    def table_on_basis(self, periods_years, *, basis: PeriodDefinition) -> pd.DataFrame:
+        """As :meth:`table`, with ``periods_years`` defined by ``basis`` whatever the curve's own definition.
+
+        A period under one definition is turned into the curve's own through the AEP (module docstring), e.g.
+        a 2-year average recurrence interval is an AEP of 39.3 %, a 2.54-year period under ``"1/AEP"``.
+        ``native_return_period_years`` gives the curve's own period; levels are NaN where it falls outside the
+        curve (an AEP of 1 or more has no ``"1/AEP"`` level).
+        """
+        periods = np.asarray(periods_years, dtype=float)
+        if basis == self.period_definition:
+            native = periods
+        else:
+            with np.errstate(divide="ignore", invalid="ignore"):
+                native = period_from_aep(aep_from_period(periods, definition=basis),
+                                         definition=self.period_definition)
+        inside = np.isfinite(native) & (native >= self.periods_years[0]) & (native <= self.periods_years[-1])
+        safe = np.where(inside, native, self.periods_years[0])
+        out = self.table(safe)
+        out["return_period_years"] = periods
+        out["native_return_period_years"] = np.where(inside, native, np.nan)
+        out["native_period_definition"] = self.period_definition
+        out["period_definition"] = basis
+        for column in ("level_m", "lower_m", "upper_m"):
+            out.loc[~inside, column] = np.nan
+        return out
 
     # -- persistence ------------------------------------------------------------------------------
     def to_dict(self) -> dict:

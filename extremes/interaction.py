@@ -1,5 +1,10 @@
 r"""Tide-surge interaction tests: timing of surge peaks, and dependence of skew surge on the tide level.
 
+The decision whether skew surge may be combined with the tide as independent rests on the tail-focused test
+of :mod:`extremes.tail_dependence` (storm peaks above a high threshold compared across tide bands by a
+likelihood-ratio test, with an effect-size rule). Kendall's tau over the whole distribution and the tide-band
+quantiles are reported beside it as descriptions; they no longer decide.
+
 References
 ----------
 .. [3] K. J. Horsburgh and C. Wilson, "Tide-surge interaction and its role in the distribution of surge
@@ -20,6 +25,7 @@ from scipy import stats
 from extremes._levels import _NS_PER_HOUR, _check_level_series, _times
 from extremes.errors import DataError, ExtremesWarning
 from extremes.residual import non_tidal_residual
+from extremes.tail_dependence import TailDependence, tail_dependence_test
 
 __all__ = ["InteractionTests", "interaction_tests", "interaction_tests_from_series"]
 
@@ -43,7 +49,8 @@ class InteractionTests:
     peak_threshold_m : float
         NTR threshold of the peaks (the ``peak_quantile`` quantile). [m]
     kendall_tau, kendall_p_value : float
-        Kendall rank correlation of skew surge and predicted high-water level, and its p-value.
+        Kendall rank correlation of skew surge and predicted high-water level, and its p-value (a description
+        of the whole distribution; it does not decide).
     n_skew_surges : int
         Skew surges available (all enter the tide-band quantiles).
     n_skew_surges_tested : int
@@ -54,8 +61,13 @@ class InteractionTests:
         ``{band label: {quantile: skew surge [m]}}`` upper-tail quantiles of skew surge per tide band.
     alpha : float
         Significance level of both tests.
-    timing_dependent, level_dependent : bool
-        Whether each test rejects independence at ``alpha``.
+    timing_dependent : bool
+        Whether the timing test rejects independence at ``alpha``.
+    level_dependent : bool
+        Whether the tail-focused test finds a material tide-level dependence of the skew-surge tail
+        (``tail.dependent``).
+    tail : TailDependence or None
+        The tail-focused test (:func:`extremes.tail_dependence.tail_dependence_test`).
     verdict : str
         Plain-words summary.
     """
@@ -77,6 +89,7 @@ class InteractionTests:
     timing_dependent: bool = False
     level_dependent: bool = False
     verdict: str = ""
+    tail: TailDependence | None = None
 
     def __repr__(self) -> str:
         return (f"InteractionTests(timing_p={self.timing_p_value:.3g}, n_peaks={self.n_peaks}, "
@@ -95,7 +108,8 @@ class InteractionTests:
                       "n_skew_surges_tested": int(self.n_skew_surges_tested), "band_edges_m": [float(x) for x in self.band_edges_m],
                       "band_quantiles_m": {b: {str(q): float(v) for q, v in d.items()}
                                            for b, d in self.band_quantiles_m.items()},
-                      "dependent": bool(self.level_dependent)},
+                      "dependent": bool(self.level_dependent), "decided_by": "tail"},
+            "tail": None if self.tail is None else self.tail.to_dict(),
             "alpha": float(self.alpha),
             "verdict": self.verdict,
         }
@@ -140,7 +154,9 @@ def _offsets_hours(t_ns: np.ndarray, hw_ns: np.ndarray) -> np.ndarray:
 def interaction_tests_from_series(residual_m: pd.Series, high_water_times: Any, skew: pd.DataFrame, *,
                                   peak_quantile: float = 0.99, min_separation_hours: float = 48.0,
                                   n_bands: int = 3, tail_quantiles: tuple = (0.5, 0.9, 0.99),
-                                  alpha: float = 0.05) -> InteractionTests:
+                                  alpha: float = 0.05, tail_threshold_quantile: float = 0.97,
+                                  min_effect_m: float = 0.05, min_effect_fraction: float = 0.05,
+                                  tides_per_year: float | None = None) -> InteractionTests:
     r"""Tests of tide-surge interaction from a residual series, predicted HW times and skew surges.
 
     Parameters
@@ -163,6 +179,8 @@ def interaction_tests_from_series(residual_m: pd.Series, high_water_times: Any, 
         Quantiles of skew surge reported per band.
     alpha : float, default 0.05
         Significance level.
+    tail_threshold_quantile, min_effect_m, min_effect_fraction, tides_per_year
+        Options of the tail-focused test, :func:`extremes.tail_dependence.tail_dependence_test`.
 
     Returns
     -------
@@ -175,8 +193,10 @@ def interaction_tests_from_series(residual_m: pd.Series, high_water_times: Any, 
     the share of all valid residual samples that fall in it (the exact "uniform in time" null, which accounts for
     cycles shorter or longer than 13 h), and the counts are compared by a chi-square test
     (``scipy.stats.chisquare``, 12 degrees of freedom). Clustering of peaks on the rising tide is the classic
-    sign of interaction. (ii) Level [4]_: Kendall's tau between skew surge and predicted high-water level
-    (``scipy.stats.kendalltau``), plus upper-tail quantiles of skew surge in tide bands (all cycles). Kendall's
+    sign of interaction. (ii) Level: the tail-focused test of :func:`extremes.tail_dependence.tail_dependence_test`
+    decides (storm peaks above a high threshold across tide bands, likelihood ratio and effect size); beside it,
+    as descriptions, Kendall's tau between skew surge and predicted high-water level [4]_
+    (``scipy.stats.kendalltau``) and upper-tail quantiles of skew surge in tide bands (all cycles). Kendall's
     null distribution assumes independent pairs; skew surges of consecutive cycles are correlated within a storm
     and high-water levels follow the spring-neap cycle, so with every cycle the p-value is far too small. The
     test therefore uses cycles at least ``min_separation_hours`` apart (every fourth semidiurnal cycle with the
@@ -249,8 +269,26 @@ def interaction_tests_from_series(residual_m: pd.Series, high_water_times: Any, 
         band_quantiles[label] = {float(q): (float(np.quantile(sel, q)) if sel.size else float("nan"))
                                  for q in tail_quantiles}
 
+    tail = None
+    if "time" in skew.columns and n_skew >= 100:
+        tail = tail_dependence_test(skew, n_bands=n_bands, threshold_quantile=tail_threshold_quantile,
+                                    min_separation_hours=min_separation_hours, alpha=alpha,
+                                    min_effect_m=min_effect_m, min_effect_fraction=min_effect_fraction,
+                                    tides_per_year=tides_per_year)
     timing_dep = bool(np.isfinite(p_timing) and p_timing < alpha)
-    level_dep = bool(np.isfinite(p_tau) and p_tau < alpha)
+    level_dep = bool(tail is not None and tail.dependent)
+    verdict = _verdict(alpha, timing_dep, p_timing, counts, expected, tau, p_tau, tail)
+    return InteractionTests(
+        timing_bins_hours=tuple(float(x) for x in range(-6, 7)), timing_counts=tuple(int(c) for c in counts),
+        timing_expected=tuple(float(x) for x in expected), timing_chi2=float(chi2), timing_p_value=float(p_timing),
+        n_peaks=n_peaks, peak_threshold_m=threshold, kendall_tau=tau, kendall_p_value=p_tau,
+        n_skew_surges=n_skew, n_skew_surges_tested=int(len(thin)),
+        band_edges_m=tuple(float(x) for x in band_edges), band_quantiles_m=band_quantiles,
+        alpha=float(alpha), timing_dependent=timing_dep, level_dependent=level_dep, verdict=verdict, tail=tail)
+
+
+def _verdict(alpha, timing_dep, p_timing, counts, expected, tau, p_tau, tail) -> str:
+    """The plain-words summary of the tests."""
     parts = []
     if timing_dep:
         peak_bin = int(np.argmax(counts - expected)) - 6
@@ -258,19 +296,30 @@ def interaction_tests_from_series(residual_m: pd.Series, high_water_times: Any, 
                      f"most excess peaks about {peak_bin:+d} h from high water)")
     else:
         parts.append(f"surge-peak timing shows no dependence on the tide (chi-square p = {p_timing:.3g})")
-    if level_dep:
-        parts.append(f"skew surge depends on the predicted high-water level (Kendall tau = {tau:.3f}, "
-                     f"p = {p_tau:.3g}); treat tide and skew surge as dependent")
+    whole = f"Kendall tau over the whole distribution = {tau:.3f}, p = {p_tau:.3g}, a description only"
+    if tail is None:
+        parts.append("the tail-focused test of tide-level dependence could not be run (needs the times of at "
+                     f"least 100 skew surges); skew surge is taken as independent of the tide ({whole})")
+    elif not tail.testable:
+        parts.append(f"too few storms per tide band ({', '.join(str(n) for n in tail.n_peaks)}) above "
+                     f"{tail.threshold_m:.3f} m for the tail-focused test; skew surge is taken as independent of "
+                     f"the tide ({whole})")
     else:
-        parts.append(f"skew surge shows no dependence on the predicted high-water level (Kendall tau = "
-                     f"{tau:.3f}, p = {p_tau:.3g}); skew surge may be combined with the tide as independent")
-    verdict = f"At the {alpha:g} level: " + "; ".join(parts) + "."
-    return InteractionTests(
-        timing_bins_hours=tuple(float(x) for x in range(-6, 7)), timing_counts=tuple(int(c) for c in counts),
-        timing_expected=tuple(float(x) for x in expected), timing_chi2=float(chi2), timing_p_value=float(p_timing),
-        n_peaks=n_peaks, peak_threshold_m=threshold, kendall_tau=tau, kendall_p_value=p_tau,
-        n_skew_surges=n_skew, n_skew_surges_tested=int(len(thin)), band_edges_m=tuple(float(x) for x in band_edges), band_quantiles_m=band_quantiles,
-        alpha=float(alpha), timing_dependent=timing_dep, level_dependent=level_dep, verdict=verdict)
+        effect = (f"1-year skew surge {tail.skew_surge_1yr_m[0]:.3f} m in the lowest and "
+                  f"{tail.skew_surge_1yr_m[-1]:.3f} m in the highest tide band (change {tail.effect_m:+.3f} m)")
+        if tail.dependent:
+            parts.append(f"the skew-surge tail depends on the predicted high-water level (likelihood-ratio "
+                         f"p = {tail.p_value:.3g}; {effect}); treat tide and skew surge as dependent: the tide-band "
+                         f"stratified convolution applies ({whole})")
+        elif tail.significant:
+            parts.append(f"the skew-surge tail differs between tide bands (likelihood-ratio p = {tail.p_value:.3g}) "
+                         f"but not materially ({effect}); skew surge may be combined with the tide as "
+                         f"independent ({whole})")
+        else:
+            parts.append(f"the skew-surge tail shows no dependence on the predicted high-water level "
+                         f"(likelihood-ratio p = {tail.p_value:.3g}; {effect}); skew surge may be combined with "
+                         f"the tide as independent ({whole})")
+    return f"At the {alpha:g} level: " + "; ".join(parts) + "."
 
 
 def interaction_tests(level_m: pd.Series, model: Any, skew: pd.DataFrame, *, step_minutes: float = 10.0,

@@ -76,7 +76,9 @@ def skew_surges_from_turning_points(level_m: pd.Series, turning_points: pd.DataF
     pandas.DataFrame
         One row per predicted high water kept, with columns ``time`` (predicted HW time), ``predicted_high_water_m``,
         ``observed_max_m``, ``observed_max_time``, ``skew_surge_m`` [m], ``observed_max_sample_m`` (the highest
-        sample itself) [m], ``window_start``, ``window_end``, ``complete``. ``attrs`` holds ``n_cycles`` (high waters with a low water on each side inside the record),
+        sample itself) [m], ``window_start``, ``window_end``, ``complete``, ``high_water_index`` (position of the
+        predicted high water in the full sequence of predicted high waters, counted from the first kept one;
+        skipped cycles leave gaps). ``attrs`` holds ``n_cycles`` (high waters with a low water on each side inside the record),
         ``n_skipped`` (cycles dropped for incomplete data), ``units`` and ``datum``.
 
     Notes
@@ -109,13 +111,15 @@ def skew_surges_from_turning_points(level_m: pd.Series, turning_points: pd.DataF
     hi_pos = np.flatnonzero(kinds == "high")
     hi_ns = tp_ns[hi_pos]
     hi_level = tp["level_m"].to_numpy()[hi_pos]
+    hi_rank = np.arange(hi_ns.size, dtype=np.int64)  # position in the full high-water sequence
     # neighbouring predicted low waters of each high water
     k = np.searchsorted(low_ns, hi_ns, side="left")
     has_both = (k > 0) & (k < low_ns.size)
-    hi_ns, hi_level, k = hi_ns[has_both], hi_level[has_both], k[has_both]
+    hi_ns, hi_level, k, hi_rank = hi_ns[has_both], hi_level[has_both], k[has_both], hi_rank[has_both]
     win_a, win_b = low_ns[k - 1], low_ns[k]
     inside = (win_a >= t0) & (win_b <= t_last)
     hi_ns, hi_level, win_a, win_b = hi_ns[inside], hi_level[inside], win_a[inside], win_b[inside]
+    hi_rank = hi_rank[inside]
     n_cycles = int(hi_ns.size)
 
     values = level.to_numpy()
@@ -140,7 +144,7 @@ def skew_surges_from_turning_points(level_m: pd.Series, turning_points: pd.DataF
     keep = complete if require_complete else n_valid > 0
     n_skipped = int(n_cycles - np.count_nonzero(keep))
 
-    hi_ns, hi_level, win_a, win_b = hi_ns[keep], hi_level[keep], win_a[keep], win_b[keep]
+    hi_ns, hi_level, win_a, win_b, hi_rank = hi_ns[keep], hi_level[keep], win_a[keep], win_b[keep], hi_rank[keep]
     i0, i1, complete = i0[keep], i1[keep], complete[keep]
     obs_max = np.full(hi_ns.size, np.nan)
     obs_time = np.zeros(hi_ns.size, dtype=np.int64)
@@ -181,6 +185,7 @@ def skew_surges_from_turning_points(level_m: pd.Series, turning_points: pd.DataF
         "window_start": _ns_to_utc(win_a),
         "window_end": _ns_to_utc(win_b),
         "complete": complete,
+        "high_water_index": hi_rank - (hi_rank[0] if hi_rank.size else 0),
     })
     out.attrs = {"n_cycles": n_cycles, "n_skipped": n_skipped, "units": "m",
                  "datum": level.attrs.get("datum", "unspecified"), "require_complete": bool(require_complete),

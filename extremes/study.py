@@ -213,8 +213,9 @@ def run_study_record(record, *, options: StudyOptions | None = None,
         stages.start("extreme values")
         curves, method_details = _direct_methods(joint, tide.level_epoch_m, options, common, notes)
         stages.start("joint probability")
+        stratify = "tide-band" if tide.interaction.level_dependent else None  # the tail test decides
         ssjpm = joint.skew_surge_joint_probability(
-            tide.high_water_series, tide.skew_surge_series, interaction=tide.interaction,
+            tide.high_water_series, tide.skew_surges, interaction=tide.interaction, stratify=stratify,
             n_bootstrap=options.resamples, confidence=options.confidence, seed=options.seed, **common,
         )
         curves["skew-surge-joint-probability"] = ssjpm.curve
@@ -224,7 +225,7 @@ def run_study_record(record, *, options: StudyOptions | None = None,
         else:
             notes.append("joint-probability (hourly) left out: a comparison method, skipped for model points")
         comparison = joint.compare_methods(curves, record_years=record_years, interaction=tide.interaction,
-                                           periods_years=options.periods_years)
+                                           stratified=stratify == "tide-band", periods_years=options.periods_years)
 
         stages.start("sea-level rise")
         slr = assess_sea_level_rise(curves[comparison.recommended_method], offsets_m=options.slr_m,

@@ -189,7 +189,9 @@ def test_compare_methods_rule_and_table():
     cmp = compare_methods(curves, record_years=30.0)
     assert cmp.recommended_method == "skew-surge-joint-probability"
     assert set(cmp.table.columns) == {"method", "return_period_years", "level_m", "lower_m", "upper_m",
-                                      "confidence"}
+                                      "confidence", "period_definition", "native_return_period_years",
+                                      "native_period_definition"}
+    assert set(cmp.table["period_definition"]) == {"1/rate"}
     assert cmp.spread_m.loc[100.0] == pytest.approx(0.3)
 
     class Dependent:

@@ -6,10 +6,13 @@ Clustering weakens as the level rises: at moderate levels several tides of one s
 levels only the tide that meets the storm peak does. So :math:`\theta` is estimated *as a function of the
 total level*, not once for the surge.
 
-Method (this package's choice). The observed surge sequence (skew surges, one per tidal cycle, or hourly
-residuals) is superimposed on the predicted tide of the nodal cycle at ``n_offsets`` random shifts, giving
+Method (this package's choice). The observed surge sequence (skew surges, one per predicted high water, or
+hourly residuals) is superimposed on the predicted tide of the nodal cycle at ``n_offsets`` random shifts, giving
 ``n_offsets`` synthetic total-level series that keep the observed storm sequences and the real tidal
-sequence (spring-neap, diurnal inequality) but not their chance phase. At each level of a grid of high
+sequence (spring-neap, diurnal inequality) but not their chance phase. Each skew surge is laid on the tide
+sequence by the position of its own predicted high water in the full high-water sequence of the record
+(:func:`high_water_positions`), never by a fixed 12.42-h step: with a diurnal tide a fixed step would put a
+storm on every other high water and run the tide sequence at twice its real speed. At each level of a grid of high
 levels the extremal index is estimated from the pooled exceedances by the blocks estimator [3]_ over blocks
 of two spring-neap cycles (or by the intervals [2]_ or runs estimators). The blocks estimator is the
 default because the spring-neap cycle groups independent exceedances in time, which the runs and intervals
@@ -40,7 +43,13 @@ from extremes.errors import DataError
 
 logger = logging.getLogger(__name__)
 
-__all__ = ["extremal_index_by_level", "theta_function", "cycle_positions"]
+__all__ = ["extremal_index_by_level", "theta_function", "cycle_positions", "high_water_positions",
+           "positions_from_spacing", "spring_neap_block_length"]
+
+#: two spring-neap cycles (2 x 14.765 d, METHODS sec. 6) [d]: the default length of a block of the blocks estimator
+SPRING_NEAP_PAIR_DAYS = 2 * 14.765
+#: days per (tropical) year [d]
+_DAYS_PER_YEAR = 365.2422
 
 
 def cycle_positions(times, *, step_hours) -> np.ndarray:
@@ -58,6 +67,76 @@ def cycle_positions(times, *, step_hours) -> np.ndarray:
         raise ValueError("times must be tz-aware UTC; got naive times")
     hours = (idx - idx[0]) / pd.Timedelta(hours=1)
     return np.rint(np.asarray(hours, dtype=float) / step_hours).astype(np.int64)
+
+
+def high_water_positions(times, high_water_times, *, tolerance_hours=1.0) -> np.ndarray:
+    """Position of each skew surge in the full sequence of predicted high waters of the record.
+
+    Each skew surge is indexed by its own predicted high water, so consecutive tides of a storm fall on
+    consecutive high waters of the tide sequence whatever the tide type (semidiurnal, mixed or diurnal), and
+    cycles missing from the record leave gaps.
+
+    Parameters
+    ----------
+    times : pandas.DatetimeIndex
+        Predicted high-water times of the skew surges (tz-aware UTC).
+    high_water_times : array-like of datetime
+        Every predicted high water over the record, in time order (tz-aware UTC).
+    tolerance_hours : float
+        Largest distance from a skew surge's time to its high water. [h]
+
+    Returns
+    -------
+    numpy.ndarray
+        Integer positions, counted from the first skew surge's high water.
+
+    Raises
+    ------
+    DataError
+        If a skew surge lies farther than ``tolerance_hours`` from every predicted high water.
+    """
+    idx, hw = pd.DatetimeIndex(times), pd.DatetimeIndex(high_water_times)
+    if idx.tz is None or hw.tz is None:
+        raise ValueError("times and high_water_times must be tz-aware UTC; got naive times")
+    t, h = idx.as_unit("ns").asi8, np.sort(hw.as_unit("ns").asi8)
+    if h.size == 0:
+        raise DataError("high_water_times is empty; expected the predicted high waters of the record")
+    k = np.clip(np.searchsorted(h, t), 1, max(h.size - 1, 1))
+    left = h[np.minimum(k - 1, h.size - 1)]
+    right = h[np.minimum(k, h.size - 1)]
+    pos = np.where(np.abs(t - left) <= np.abs(right - t), k - 1, k)
+    pos = np.minimum(pos, h.size - 1)
+    far = np.abs(h[pos] - t) > tolerance_hours * 3.6e12
+    if np.any(far):
+        raise DataError(f"{int(far.sum())} skew surge(s) lie more than {tolerance_hours:g} h from every predicted "
+                        "high water; expected the high waters of the same tide prediction")
+    return (pos - pos.min()).astype(np.int64) if pos.size else pos.astype(np.int64)
+
+
+def positions_from_spacing(times) -> np.ndarray:
+    """Positions of skew surges in their high-water sequence, inferred from their times alone (a fallback).
+
+    The typical step is the median spacing of consecutive skew surges (12.42 h for a semidiurnal tide, 24.84 h
+    for a diurnal one, about 12.4 h for a mixed tide whose spacings alternate); a spacing of ``d`` advances
+    the position by ``max(1, round(d / step))``, so gaps are kept. Prefer :func:`high_water_positions` (or the
+    ``high_water_index`` column of :func:`extremes.skewsurge.skew_surges_from_turning_points`), which is exact
+    where the number of high waters per day changes (mixed tides near the diurnal limit).
+    """
+    idx = pd.DatetimeIndex(times)
+    if idx.tz is None:
+        raise ValueError("times must be tz-aware UTC; got naive times")
+    ns = np.sort(idx.as_unit("ns").asi8)
+    if ns.size < 2:
+        return np.zeros(ns.size, dtype=np.int64)
+    d = np.diff(ns).astype(float)
+    step = float(np.median(d[d > 0])) if np.any(d > 0) else 1.0
+    steps = np.maximum(1, np.rint(d / step)).astype(np.int64)
+    return np.concatenate([[0], np.cumsum(steps)])
+
+
+def spring_neap_block_length(high_waters_per_year) -> int:
+    """Blocks-estimator block of two spring-neap cycles, in high waters (57 for a semidiurnal tide)."""
+    return max(4, int(round(float(high_waters_per_year) * SPRING_NEAP_PAIR_DAYS / _DAYS_PER_YEAR)))
 
 
 def _blocks_estimate(exceed, block, valid_blocks, n):
@@ -91,7 +170,9 @@ def extremal_index_by_level(tide_sequence_m, surge_m, positions, *, levels_m=Non
     surge_m : array-like of float
         Observed surge sequence (skew surges or hourly residuals), finite values only. [m]
     positions : array-like of int
-        Position of each surge value in steps of the tide sequence (gaps are missing positions).
+        Position of each surge value in steps of the tide sequence (gaps are missing positions): for skew
+        surges, the index of each one's own predicted high water in the full high-water sequence of the record
+        (:func:`high_water_positions`), right for semidiurnal, mixed and diurnal tides alike.
     levels_m : array-like of float, optional
         Levels at which to estimate; by default ``n_levels`` levels from the level exceeded by
         ``max_exceedance_fraction`` of the values to the level exceeded ``min_exceedances`` times. [m]

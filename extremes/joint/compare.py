@@ -12,7 +12,9 @@ Rule (this package's, in order; never the highest or lowest level):
    and are flagged. If no direct fit exists, the joint method is reported with a strong caution. Annual
    maxima (GEV) always remain a check.
 
-A method whose curve is missing at the comparison periods is skipped. The reason states the record length,
+Every level of the table is on one period basis (``basis``, default ``"1/rate"``): annual-maximum models
+(``1/AEP``) are read at the same annual exceedance probability as the rate models, since at 1.5-2 years the two
+definitions differ by 0.5 year or more. A method whose curve is missing at the comparison periods is skipped. The reason states the record length,
 the interaction verdict and any diagnostics passed in.
 
 References
@@ -37,6 +39,7 @@ __all__ = ["MethodComparison", "compare_methods", "COMPARISON_PERIODS_YEARS"]
 
 #: default periods of the comparison table [years]
 COMPARISON_PERIODS_YEARS = (1.5, 2, 5, 10, 20, 50, 100, 200, 500, 1000)
+_BASIS_WORDS = {"1/rate": "average recurrence interval; AEP = 1 - exp(-1/T)", "1/AEP": "reciprocal of the AEP"}
 
 
 @dataclass(frozen=True, repr=False)
@@ -46,7 +49,9 @@ class MethodComparison:
     Attributes
     ----------
     table : pandas.DataFrame
-        ``method, return_period_years, level_m, lower_m, upper_m, confidence`` [m, years].
+        ``method, return_period_years, level_m, lower_m, upper_m, confidence, period_definition`` (the one
+        basis of the table), ``native_return_period_years`` and ``native_period_definition`` (the period each
+        level was read at on its own curve) [m, years].
     recommended_method : str
         The method the rule picks (module docstring).
     reason : str
@@ -72,7 +77,8 @@ class MethodComparison:
 
 
 def compare_methods(curves, *, record_years, interaction=None, stratified=False, diagnostics=None,
-                    periods_years=COMPARISON_PERIODS_YEARS, min_record_years_jpm=10.0) -> MethodComparison:
+                    periods_years=COMPARISON_PERIODS_YEARS, min_record_years_jpm=10.0,
+                    basis="1/rate") -> MethodComparison:
     """One table of every method's levels and a recommended method with its reason.
 
     Parameters
@@ -91,6 +97,11 @@ def compare_methods(curves, *, record_years, interaction=None, stratified=False,
         Periods of the table. [years]
     min_record_years_jpm : float
         Shortest record for which a joint method is preferred. [years]
+    basis : {"1/rate", "1/AEP"}
+        The one period definition of the table: every curve is read at the periods under this definition
+        (:meth:`extremes.curves.ReturnLevelCurve.table_on_basis`), so levels of annual-maximum models (1/AEP)
+        and of rate models (1/rate) are compared at equal annual exceedance probability. Default ``"1/rate"``,
+        under which every curve has a level at every period of at least 1 year.
 
     Returns
     -------
@@ -102,19 +113,22 @@ def compare_methods(curves, *, record_years, interaction=None, stratified=False,
         raise DataError("curves is empty; give at least one ReturnLevelCurve")
     if not np.isfinite(record_years) or record_years <= 0:
         raise DataError(f"record_years must be > 0 [years]; got {record_years!r}")
+    if basis not in ("1/rate", "1/AEP"):
+        raise DataError(f"basis must be '1/rate' or '1/AEP'; got {basis!r}")
     periods = np.asarray(periods_years, dtype=float)
     frames = []
     for name, c in curves.items():
-        ok = periods[(periods >= c.periods_years[0]) & (periods <= c.periods_years[-1])]
-        t = c.table(ok)
+        t = c.table_on_basis(periods, basis=basis)
         t["method"] = name
-        frames.append(t)
+        frames.append(t[np.isfinite(t["native_return_period_years"])])
     table = pd.concat(frames, ignore_index=True)
-    table.attrs["units"] = "m"
+    table.attrs.update(units="m", period_definition=basis)
     spread = table.groupby("return_period_years")["level_m"].agg(lambda v: v.max() - v.min())
     dependent = bool(getattr(interaction, "level_dependent", False)) if interaction is not None else None
     joint_ok = record_years >= min_record_years_jpm and (not dependent or stratified)
-    why = [f"record of {record_years:.1f} years"]
+    why = [f"record of {record_years:.1f} years",
+           f"levels compared at one period basis, {basis} ({_BASIS_WORDS[basis]}); a method defined otherwise is "
+           "read at the same annual exceedance probability"]
     if interaction is None:
         why.append("no interaction test given (independence of tide and surge assumed)")
     elif dependent:

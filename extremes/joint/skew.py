@@ -27,7 +27,8 @@ from extremes.constants import DAYS_PER_YEAR, NODAL_CYCLE_YEARS
 from extremes.curves import DENSE_PERIODS_YEARS, ReturnLevelCurve
 from extremes.errors import DataError, ExtremesWarning
 from extremes.joint import engine
-from extremes.joint.clustering import cycle_positions, extremal_index_by_level, theta_function
+from extremes.joint.clustering import (extremal_index_by_level, positions_from_spacing, spring_neap_block_length,
+                                       theta_function)
 from extremes.joint.core import levels_for_rates
 from extremes.joint.result import CLUSTERING_TABLE_PERIODS_YEARS, JointProbabilityResult
 from extremes.timebase import level_series
@@ -35,11 +36,6 @@ from extremes.timebase import level_series
 logger = logging.getLogger(__name__)
 
 __all__ = ["skew_surge_joint_probability", "NODAL_CYCLE_YEARS", "DAYS_PER_YEAR"]
-
-#: length of the lunar nodal cycle [years]
-#: days per (tropical) year used to count tides per year [d]
-#: mean length of a semidiurnal tidal cycle (M2 period) [h]
-TIDAL_CYCLE_HOURS = 12.4206
 
 
 def _utc_series(values, name):
@@ -138,7 +134,8 @@ def _band_labels(values, edges):
 def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None, threshold_quantile=None,
                                  tail_method="mle", clustering="level", extremal_index=None, n_offsets=32,
                                  min_exceedances=10, estimator="blocks", theta_beyond="trend", stratify=None, n_bands=3,
-                                 skew_surge_tide_m=None, interaction=None, n_bootstrap=1000, confidence=0.95,
+                                 skew_surge_tide_m=None, skew_surge_positions=None, interaction=None,
+                                 n_bootstrap=1000, confidence=0.95,
                                  periods_years=DENSE_PERIODS_YEARS, high_water_years=None, grid_step_m=0.005,
                                  datum="unspecified", epoch_year=None, seed=0) -> JointProbabilityResult:
     r"""Still-water return levels by the skew-surge joint probability method.
@@ -177,6 +174,12 @@ def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None,
         Number of tide bands (quantile bands of the predicted high waters).
     skew_surge_tide_m : array-like, optional
         Predicted high water of each skew surge [m] when ``skew_surge`` is a Series.
+    skew_surge_positions : array-like of int, optional
+        Position of each skew surge's predicted high water in the full high-water sequence of the record
+        (:func:`extremes.joint.clustering.high_water_positions`); by default the ``high_water_index`` column of
+        a skew-surge frame, else inferred from the spacing of the skew surges
+        (:func:`extremes.joint.clustering.positions_from_spacing`). Storm clustering lays the skew surges on the
+        tide sequence by these positions, right for semidiurnal, mixed and diurnal tides.
     interaction : extremes.surge.InteractionTests, optional
         Result of the interaction tests; a level dependence gives an :class:`ExtremesWarning` and a note.
     n_bootstrap : int
@@ -232,7 +235,7 @@ def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None,
                       f"({NODAL_CYCLE_YEARS} years)", ExtremesWarning, stacklevel=2)
         notes.append(f"the high-water set spans {high_water_years:.2f} years, not a full nodal cycle")
     # -- skew surges
-    tide_of_surge = None
+    tide_of_surge, positions = None, skew_surge_positions
     if isinstance(skew_surge, pd.DataFrame):
         frame = skew_surge
         if "time" in frame.columns:
@@ -242,6 +245,8 @@ def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None,
         series = _utc_series(frame["skew_surge_m"], "skew_surge")
         if "predicted_high_water_m" in frame.columns:
             tide_of_surge = frame["predicted_high_water_m"].astype(float).reindex(series.index).to_numpy()
+        if positions is None and "high_water_index" in frame.columns:
+            positions = frame["high_water_index"].reindex(series.index).to_numpy()
     else:
         series = _utc_series(skew_surge, "skew_surge")
         if skew_surge_tide_m is not None:
@@ -250,10 +255,16 @@ def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None,
                 raise DataError(f"skew_surge_tide_m has {tide_of_surge.size} values for {len(skew_surge)} "
                                 "skew surges")
             tide_of_surge = pd.Series(tide_of_surge, index=skew_surge.index).sort_index().to_numpy()
+    if positions is not None:
+        positions = np.asarray(positions, dtype=np.int64).ravel()
+        if positions.size != series.size:
+            raise DataError(f"skew_surge_positions has {positions.size} values for {series.size} skew surges")
     keep = np.isfinite(series.to_numpy())
     series = series[keep]
     if tide_of_surge is not None:
         tide_of_surge = tide_of_surge[keep]
+    if positions is not None:
+        positions = positions[keep]
     if series.size < 200:
         raise DataError(f"skew_surge has {series.size} finite values; need >= 200 (a few months) and "
                         "preferably >= 10 years")
@@ -309,9 +320,12 @@ def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None,
         c.surge = engine.fit_tail(c.surge_m, threshold_m=threshold_m, years=record_years, method=tail_method)
     # -- clustering
     if clustering == "level":
-        positions = cycle_positions(series.index, step_hours=TIDAL_CYCLE_HOURS)
+        if positions is None:
+            positions = positions_from_spacing(series.index)
+            notes.append("skew surges laid on the high-water sequence by their spacing (no high-water index given)")
         theta_table = extremal_index_by_level(high_waters, surge, positions, n_offsets=n_offsets,
-                                              min_exceedances=min_exceedances, estimator=estimator, seed=seed)
+                                              min_exceedances=min_exceedances, estimator=estimator,
+                                              block_length=spring_neap_block_length(events_per_year), seed=seed)
         notes.append(
             f"storm clustering: extremal index estimated as a function of total level ({estimator} estimator, "
             f"observed skew-surge sequences on {n_offsets} shifts of the predicted tide), from "
