@@ -164,12 +164,17 @@ def gpd_band_loglik(excess_m, band, params, n_bands) -> float:
 def _fit_gpd_bands(excess, band, n_bands):
     """Maximum-likelihood (scales per band, common shape); returns (params, log-likelihood)."""
     start_scale = np.log(max(float(np.mean(excess)), 1e-6))
+
+    def objective(p):
+        value = -gpd_band_loglik(excess, band, p, n_bands)
+        return value if np.isfinite(value) else 1e12  # outside the support: a large finite penalty
+
     best = None
     for xi0 in (0.0, -0.1, 0.1):
         x0 = np.concatenate([np.full(n_bands, start_scale), [xi0]])
-        res = optimize.minimize(lambda p: -gpd_band_loglik(excess, band, p, n_bands), x0, method="Nelder-Mead",
+        res = optimize.minimize(objective, x0, method="Nelder-Mead",
                                 options={"xatol": 1e-7, "fatol": 1e-9, "maxiter": 4000 * (n_bands + 1)})
-        if np.isfinite(res.fun) and (best is None or res.fun < best.fun):
+        if res.fun < 1e12 and (best is None or res.fun < best.fun):
             best = res
     if best is None:
         raise DataError("the GPD fit of the storm peaks failed; expected positive excesses over the threshold")

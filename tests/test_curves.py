@@ -57,3 +57,26 @@ def test_one_year_period():
                                   period_definition="1/rate")
     # GPD xi = 0 with threshold 1.5 m, scale 0.1 m, rate 1/yr: x_T = u + sigma ln(T) (METHODS.md sec. 9 [C])
     assert rate_curve.level_at([1.0])[0] == pytest.approx(1.5, abs=1e-9)
+
+
+def test_table_on_one_period_basis():
+    # AEP = 1 - exp(-1/T) for an average recurrence interval T (METHODS sec. 9): a 2-year ARI is the AEP
+    # 39.35 %, i.e. a 1/AEP period of 2.5415 years
+    curve = _gumbel_curve()
+    table = curve.table_on_basis([2.0, 100.0], basis="1/rate")
+    native = 1.0 / (1.0 - np.exp(-1.0 / np.array([2.0, 100.0])))
+    np.testing.assert_allclose(table["native_return_period_years"], native, rtol=1e-12)
+    assert native[0] == pytest.approx(2.5415, abs=1e-4)
+    np.testing.assert_allclose(table["level_m"], curve.level_at(native))
+    assert set(table["period_definition"]) == {"1/rate"} and set(table["native_period_definition"]) == {"1/AEP"}
+    # the other way: a 1.5-year 1/AEP period is an ARI of 0.91 year, below the rate curve's grid: NaN
+    rate_curve = ReturnLevelCurve(method="peaks-over-threshold", periods_years=DENSE_PERIODS_YEARS,
+                                  level_m=1.5 + 0.1 * np.log(DENSE_PERIODS_YEARS), lower_m=None, upper_m=None,
+                                  period_definition="1/rate")
+    back = rate_curve.table_on_basis([1.5, 100.0], basis="1/AEP")
+    assert np.isnan(back["level_m"].iloc[0]) and np.isnan(back["native_return_period_years"].iloc[0])
+    assert back["native_return_period_years"].iloc[1] == pytest.approx(99.4992, abs=1e-4)
+    # same basis: the plain table
+    same = curve.table_on_basis([10.0], basis="1/AEP")
+    assert same["level_m"].iloc[0] == pytest.approx(curve.level_at([10.0])[0])
+    assert list(curve.table([10.0])["period_definition"]) == ["1/AEP"]

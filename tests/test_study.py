@@ -64,7 +64,11 @@ def test_results_json_has_every_contract_key(study):
     methods = {row["method"] for row in document["return_levels"]}
     assert methods <= METHODS and document["recommended_method"] in methods
     for row in document["return_levels"]:
-        assert {"method", "return_period_years", "level_m", "lower_m", "upper_m", "confidence"} <= set(row)
+        assert {"method", "return_period_years", "level_m", "lower_m", "upper_m", "confidence",
+                "period_definition"} <= set(row)
+        # CONTRACT.md: 1/AEP for the annual-maximum models, 1/rate for the others
+        expected = "1/AEP" if row["method"] in ("annual-maxima", "r-largest") else "1/rate"
+        assert row["period_definition"] == expected
     assert {row["offset_m"] for row in document["sea_level_rise"]} == {0.0, 0.5}
     assert any("wave" in c for c in document["cautions"])
     assert any("licensed" in c or "local" in c for c in document["cautions"])
