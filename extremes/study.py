@@ -187,6 +187,7 @@ def run_study_record(record, *, options: StudyOptions | None = None,
     :func:`extremes.sealevel_assessment.assess_sea_level_rise`.
     """
     from extremes import joint, quality, sealevel
+    from extremes import season as season_rules
     from extremes.report.cautions import standard_cautions
     from extremes.results import StudyResult
     from extremes.sealevel_assessment import assess_sea_level_rise
@@ -211,7 +212,9 @@ def run_study_record(record, *, options: StudyOptions | None = None,
         common = dict(datum=record.datum, epoch_year=tide.epoch_year)
 
         stages.start("extreme values")
-        curves, method_details = _direct_methods(joint, tide.level_epoch_m, options, common, notes)
+        season = season_rules.storm_season_or_none(tide.skew_surges, notes)
+        curves, method_details = _direct_methods(joint, tide.level_epoch_m, options, common, notes,
+                                                 season_months=season.months if season else None)
         stages.start("joint probability")
         stratify = "tide-band" if tide.interaction.level_dependent else None  # the tail test decides
         ssjpm = joint.skew_surge_joint_probability(
@@ -251,26 +254,27 @@ def run_study_record(record, *, options: StudyOptions | None = None,
     )
 
 
-def _direct_methods(joint, level_epoch, options, common, notes):
+def _direct_methods(joint, level_epoch, options, common, notes, season_months=None):
     """Annual maxima (GEV), peaks over threshold (GPD) and r-largest of the epoch-adjusted total level."""
     from extremes.extremal import samples
 
     curves, details = {}, {}
-    complete_years = int(samples.annual_maxima(level_epoch, min_coverage=options.min_year_coverage).maxima.size)
+    years = dict(min_coverage=options.min_year_coverage, season_months=season_months)  # storm-season rule too
+    complete_years = int(samples.annual_maxima(level_epoch, **years).maxima.size)
     enough_years = complete_years >= MIN_ANNUAL_MAXIMA
     if not enough_years:
         notes.append(f"annual-maxima and r-largest not fitted: {complete_years} complete years; a GEV fit needs "
                      f"at least {MIN_ANNUAL_MAXIMA}")
     runs = [
         ("annual-maxima", enough_years, lambda: joint.direct_annual_maxima(
-            level_epoch, min_coverage=options.min_year_coverage, confidence=options.confidence, **common)),
+            level_epoch, **years, confidence=options.confidence, **common)),
         ("peaks-over-threshold", True, lambda: joint.direct_peaks_over_threshold(
             level_epoch, min_separation_hours=options.min_separation_hours, confidence=options.confidence,
             **common)),
         # a check method: delta-method intervals keep it quick (its profile likelihood has no closed-form
         # derivatives and costs seconds a period); the curve's interval_method says so
         ("r-largest", enough_years, lambda: joint.direct_r_largest(
-            level_epoch, min_separation_hours=options.min_separation_hours, min_coverage=options.min_year_coverage,
+            level_epoch, min_separation_hours=options.min_separation_hours, **years,
             ci="delta", confidence=options.confidence, profile_periods_years=_CHECK_PROFILE_PERIODS_YEARS,
             **common)),
     ]

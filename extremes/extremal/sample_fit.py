@@ -147,7 +147,7 @@ def invalid_choice(*, sample: str, model: str, method: str, ci: str) -> tuple[st
 
 
 def _draw_and_fit(data, *, sample, model, method, threshold_m, min_separation_hours, r, min_coverage,
-                  water_year_start_month):
+                  water_year_start_month, season_months=None):
     """The sample of ``data`` and its fit, with the sample's details."""
     from extremes import extremal
 
@@ -157,7 +157,7 @@ def _draw_and_fit(data, *, sample, model, method, threshold_m, min_separation_ho
             drawn = data
         elif isinstance(data, pd.Series) and isinstance(data.index, pd.DatetimeIndex):
             drawn = extremal.annual_maxima(data, min_coverage=min_coverage,
-                                           water_year_start_month=water_year_start_month)
+                                           water_year_start_month=water_year_start_month, season_months=season_months)
             details["years_dropped"] = [{"year": int(row.year), "reason": row.reason}
                                         for row in drawn.dropped.itertuples()]
         else:  # a table of annual maxima (one value a year)
@@ -166,7 +166,7 @@ def _draw_and_fit(data, *, sample, model, method, threshold_m, min_separation_ho
         return drawn, fitter(drawn, method=method), details
     if sample == "r-largest":
         drawn = extremal.r_largest(data, r=r, min_separation_hours=min_separation_hours, min_coverage=min_coverage,
-                                   water_year_start_month=water_year_start_month)
+                                   water_year_start_month=water_year_start_month, season_months=season_months)
         details.update(years=len(drawn.values), r=r, min_separation_hours=min_separation_hours)
         return drawn, extremal.fit_gev_rlargest(drawn), details
     details["min_separation_hours"] = min_separation_hours
@@ -186,7 +186,7 @@ def fit_sample(data, *, sample: str = "annual-maxima", model: str = "gev", metho
                ci: str | None = None, periods_years=DEFAULT_PERIODS_YEARS, confidence: float = DEFAULT_CONFIDENCE,
                n_bootstrap: int = 1000, seed: int = DEFAULT_SEED, threshold_m: float | None = None,
                min_separation_hours: float = 72.0, r: int = 5, min_coverage: float = 0.9,
-               water_year_start_month: int = 1) -> SampleFit:
+               water_year_start_month: int = 1, season_months=None) -> SampleFit:
     r"""Draw a sample of extremes from ``data``, fit its model and compute return levels with intervals.
 
     Parameters
@@ -219,6 +219,8 @@ def fit_sample(data, *, sample: str = "annual-maxima", model: str = "gev", metho
         Fraction of a year that must be valid for the year to count (series input).
     water_year_start_month : int, keyword-only
         First month of the year used for annual maxima and r-largest.
+    season_months : sequence of int, optional
+        Storm season whose coverage a year also needs (annual maxima, r-largest; :mod:`extremes.season`).
 
     Returns
     -------
@@ -245,7 +247,7 @@ def fit_sample(data, *, sample: str = "annual-maxima", model: str = "gev", metho
         raise DataError(problem[1])
     drawn, fit, details = _draw_and_fit(data, sample=sample, model=model, method=method, threshold_m=threshold_m,
                                         min_separation_hours=min_separation_hours, r=r, min_coverage=min_coverage,
-                                        water_year_start_month=water_year_start_month)
+                                        water_year_start_month=water_year_start_month, season_months=season_months)
     table = extremal.return_levels(fit, list(periods_years), ci=ci, confidence=confidence,
                                    n_bootstrap=n_bootstrap, seed=seed)
     return SampleFit(sample_kind=sample, sample=drawn, fit=fit, return_levels=table, ci=ci, seed=int(seed),

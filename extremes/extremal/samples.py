@@ -81,6 +81,12 @@ class AnnualMaxima:
         Coverage rule applied. [-]
     water_year_start_month : int
         First month of the year (1 = calendar year).
+    season_months : tuple of int
+        Calendar months of the storm season whose coverage was checked (empty: no season rule).
+    min_season_coverage : float or None
+        Storm-season coverage rule applied. [-]
+    season_coverage : pandas.Series or None
+        Share of each year's storm-season samples that hold a valid value. [-]
     """
 
     maxima: pd.Series
@@ -89,6 +95,9 @@ class AnnualMaxima:
     dropped: pd.DataFrame = field(repr=False)
     min_coverage: float = 0.9
     water_year_start_month: int = 1
+    season_months: tuple = ()
+    min_season_coverage: float | None = None
+    season_coverage: pd.Series | None = field(default=None, repr=False)
 
     def __repr__(self):
         return (f"AnnualMaxima(n={len(self.maxima)}, dropped={len(self.dropped)}, "
@@ -101,6 +110,7 @@ class AnnualMaxima:
         return {
             "year_definition": {"start_month": self.water_year_start_month, "label": "year in which it starts"},
             "min_coverage": self.min_coverage,
+            "storm_season": {"months": list(self.season_months), "min_coverage": self.min_season_coverage},
             "maxima": [{"year": int(y), "level_m": float(v), "time": self.times[y].isoformat()}
                        for y, v in self.maxima.items()],
             "dropped": [{"year": int(r.year), "coverage": float(r.coverage), "reason": r.reason}
@@ -122,7 +132,8 @@ def _coverage_by_year(s, start_month):
     return pd.Series(cov, name="coverage"), labels
 
 
-def annual_maxima(level_m, *, min_coverage=0.9, water_year_start_month=1):
+def annual_maxima(level_m, *, min_coverage=0.9, water_year_start_month=1, season_months=None,
+                  min_season_coverage=None):
     """Annual maxima by calendar year or by a water year starting in a chosen month.
 
     Parameters
@@ -134,6 +145,12 @@ def annual_maxima(level_m, *, min_coverage=0.9, water_year_start_month=1):
         hold valid values. Default 0.9. [-]
     water_year_start_month : int
         First month of each year, 1-12 (1 = calendar year). Years are labelled by the year in which they start.
+    season_months : sequence of int, optional
+        Calendar months of the storm season (e.g. from :func:`extremes.season.storm_season`). A year then also
+        needs its storm-season months at least ``min_season_coverage`` complete: a year that misses weeks of
+        its storm season has a maximum biased low even when the year is 90 % complete (METHODS sec. 7, 14).
+    min_season_coverage : float, optional
+        Storm-season coverage rule; default :data:`extremes.season.MIN_SEASON_COVERAGE` (0.85). [-]
 
     Returns
     -------
@@ -150,11 +167,23 @@ def annual_maxima(level_m, *, min_coverage=0.9, water_year_start_month=1):
         raise ValueError(f"min_coverage must be between 0 and 1; got {min_coverage!r}")
     s = _check_series(level_m)
     coverage, labels = _coverage_by_year(s, water_year_start_month)
+    season_cov = None
+    if season_months:
+        from extremes.season import MIN_SEASON_COVERAGE, season_coverage_by_year
+
+        min_season_coverage = MIN_SEASON_COVERAGE if min_season_coverage is None else float(min_season_coverage)
+        if not 0 <= min_season_coverage <= 1:
+            raise ValueError(f"min_season_coverage must be between 0 and 1; got {min_season_coverage!r}")
+        season_cov = season_coverage_by_year(s, season_months, water_year_start_month=water_year_start_month)
     maxima, times, dropped = {}, {}, []
     for y, c in coverage.items():
         if c < min_coverage:
             reason = "no data" if c == 0 else f"coverage {c:.3f} < {min_coverage:g}"
             dropped.append((y, c, reason))
+            continue
+        if season_cov is not None and season_cov.get(y, 0.0) < min_season_coverage:
+            dropped.append((y, c, f"storm-season coverage {season_cov.get(y, 0.0):.3f} < {min_season_coverage:g} "
+                                  f"(months {', '.join(str(m) for m in sorted(season_months))})"))
             continue
         pos = np.flatnonzero(labels == y)
         vals = s.to_numpy()[pos]
@@ -162,14 +191,17 @@ def annual_maxima(level_m, *, min_coverage=0.9, water_year_start_month=1):
         maxima[y] = float(vals[k])
         times[y] = s.index[pos[k]]
     if not maxima:
-        raise DataError(f"no year has coverage >= {min_coverage:g} (best {coverage.max():.3f}); "
-                        "lower min_coverage or supply a longer record")
+        raise DataError(f"no year has coverage >= {min_coverage:g} (best {coverage.max():.3f})"
+                        + (f" and storm-season coverage >= {min_season_coverage:g}" if season_cov is not None else "")
+                        + "; lower min_coverage or supply a longer record")
     dropped_df = pd.DataFrame(dropped, columns=["year", "coverage", "reason"])
     ser = pd.Series(maxima, name="annual_max_m", dtype=float)
     ser.index.name = "year"
     ser.attrs.update({"units": "m", "datum": s.attrs.get("datum", level_m.attrs.get("datum", "unspecified"))})
     logger.info("annual maxima: %d years kept, %d dropped", len(ser), len(dropped_df))
-    return AnnualMaxima(ser, pd.Series(times), coverage, dropped_df, float(min_coverage), int(water_year_start_month))
+    return AnnualMaxima(ser, pd.Series(times), coverage, dropped_df, float(min_coverage), int(water_year_start_month),
+                        tuple(sorted(int(m) for m in season_months or ())),
+                        min_season_coverage if season_months else None, season_cov)
 
 
 # ----------------------------------------------------------------------------------------------------------
@@ -334,7 +366,8 @@ class RLargest:
                            for y, row in zip(self.values.index, self.values.to_numpy())}}
 
 
-def r_largest(level_m, *, r=5, min_separation_hours=72.0, min_coverage=0.9, water_year_start_month=1):
+def r_largest(level_m, *, r=5, min_separation_hours=72.0, min_coverage=0.9, water_year_start_month=1,
+              season_months=None, min_season_coverage=None):
     """The r largest independent events of each year (declustered by a minimum separation) [1]_ sec. 3.5.
 
     Each year's largest value is taken, every value within ``min_separation_hours`` of it is removed, and so on
@@ -348,6 +381,8 @@ def r_largest(level_m, *, r=5, min_separation_hours=72.0, min_coverage=0.9, wate
         Events per year (use r <= 5-10 and check the stability of the fit against r).
     min_separation_hours : float
         Minimum time between two events of the same year. [h]
+    min_coverage, water_year_start_month, season_months, min_season_coverage
+        Year rules of :func:`annual_maxima`.
 
     Returns
     -------
@@ -357,7 +392,8 @@ def r_largest(level_m, *, r=5, min_separation_hours=72.0, min_coverage=0.9, wate
         raise ValueError(f"r must be a positive integer; got {r!r}")
     if not min_separation_hours >= 0:
         raise ValueError(f"min_separation_hours must be >= 0 [h]; got {min_separation_hours!r}")
-    am = annual_maxima(level_m, min_coverage=min_coverage, water_year_start_month=water_year_start_month)
+    am = annual_maxima(level_m, min_coverage=min_coverage, water_year_start_month=water_year_start_month,
+                       season_months=season_months, min_season_coverage=min_season_coverage)
     s = _check_series(level_m)
     labels = _year_labels(s.index, water_year_start_month)
     vals_all = s.to_numpy()

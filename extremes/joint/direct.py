@@ -132,8 +132,8 @@ def _direct(method, level_m_at_epoch, *, ci, confidence, periods_years, profile_
     return DirectFit(method=method, curve=curve, result=result, notes=tuple(notes))
 
 
-def direct_annual_maxima(level_m_at_epoch, *, min_coverage=0.9, water_year_start_month=1, ci="profile",
-                         confidence=0.95, periods_years=DENSE_PERIODS_YEARS,
+def direct_annual_maxima(level_m_at_epoch, *, min_coverage=0.9, water_year_start_month=1, season_months=None,
+                         ci="profile", confidence=0.95, periods_years=DENSE_PERIODS_YEARS,
                          profile_periods_years=PROFILE_PERIODS_YEARS, datum="unspecified",
                          epoch_year=None) -> DirectFit:
     """GEV fit (maximum likelihood) of annual maxima of the total level, as a curve (``1/AEP``).
@@ -142,8 +142,9 @@ def direct_annual_maxima(level_m_at_epoch, *, min_coverage=0.9, water_year_start
     ----------
     level_m_at_epoch : pandas.Series
         Observed level adjusted to the MSL epoch, UTC index, NaN gaps. [m]
-    min_coverage, water_year_start_month
-        Year rules of :func:`extremes.extremal.samples.annual_maxima`.
+    min_coverage, water_year_start_month, season_months
+        Year rules of :func:`extremes.extremal.samples.annual_maxima` (``season_months``: the storm season whose
+        coverage a year needs, :mod:`extremes.season`).
     ci : {"profile", "delta", "bootstrap"}
         Interval method of :func:`extremes.extremal.uncertainty.return_levels`.
     confidence : float
@@ -165,7 +166,8 @@ def direct_annual_maxima(level_m_at_epoch, *, min_coverage=0.9, water_year_start
 
     return _direct("annual-maxima", level_m_at_epoch, ci=ci, confidence=confidence, periods_years=periods_years,
                    profile_periods_years=profile_periods_years, datum=datum, epoch_year=epoch_year,
-                   describe=describe, min_coverage=min_coverage, water_year_start_month=water_year_start_month)
+                   describe=describe, min_coverage=min_coverage, water_year_start_month=water_year_start_month,
+                   season_months=season_months)
 
 
 def direct_peaks_over_threshold(level_m_at_epoch, *, threshold_m=None, min_separation_hours=72.0, ci="profile",
@@ -202,8 +204,8 @@ def direct_peaks_over_threshold(level_m_at_epoch, *, threshold_m=None, min_separ
                    min_separation_hours=min_separation_hours)
 
 
-def direct_r_largest(level_m_at_epoch, *, r=5, min_separation_hours=72.0, min_coverage=0.9, ci="profile",
-                     confidence=0.95, periods_years=DENSE_PERIODS_YEARS,
+def direct_r_largest(level_m_at_epoch, *, r=5, min_separation_hours=72.0, min_coverage=0.9, season_months=None,
+                     ci="profile", confidence=0.95, periods_years=DENSE_PERIODS_YEARS,
                      profile_periods_years=PROFILE_PERIODS_YEARS, datum="unspecified",
                      epoch_year=None) -> DirectFit:
     """Annual-maximum GEV fitted to the r largest independent events per year, as a curve (``1/AEP``).
@@ -222,4 +224,5 @@ def direct_r_largest(level_m_at_epoch, *, r=5, min_separation_hours=72.0, min_co
 
     return _direct("r-largest", level_m_at_epoch, ci=ci, confidence=confidence, periods_years=periods_years,
                    profile_periods_years=profile_periods_years, datum=datum, epoch_year=epoch_year,
-                   describe=describe, r=r, min_separation_hours=min_separation_hours, min_coverage=min_coverage)
+                   describe=describe, r=r, min_separation_hours=min_separation_hours, min_coverage=min_coverage,
+                   season_months=season_months)

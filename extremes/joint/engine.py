@@ -31,13 +31,20 @@ class Component:
     surge_m: np.ndarray
     year_index: np.ndarray
     surge: SurgeDistribution | None = None
+    weight: np.ndarray | None = None  # weight of each surge value (seasonal coverage), mean 1; None: equal
 
 
-def fit_tail(surge_m, *, threshold_m, years, method="mle") -> SurgeDistribution:
-    """Empirical body + GPD tail fitted to all exceedances of ``threshold_m`` (marginal tail)."""
+def fit_tail(surge_m, *, threshold_m, years, method="mle", weights=None) -> SurgeDistribution:
+    """Empirical body + GPD tail fitted to all exceedances of ``threshold_m`` (marginal tail).
+
+    With ``weights`` (one per value): weighted empirical body (represented by the weighted quantiles at
+    ``(i + 0.5)/n``), weighted tail probability and weighted maximum-likelihood GPD (:func:`gpd_mle_weighted`).
+    """
     from extremes.extremal import distributions
 
     x = np.asarray(surge_m, dtype=float)
+    if weights is not None:
+        return _fit_tail_weighted(x, np.asarray(weights, dtype=float), threshold_m)
     exc = x[x > threshold_m]
     if exc.size < 10:
         raise FitError(f"only {exc.size} surge values exceed the threshold {threshold_m:.3f} m; "
@@ -46,6 +53,21 @@ def fit_tail(surge_m, *, threshold_m, years, method="mle") -> SurgeDistribution:
         warnings.simplefilter("ignore", ExtremesWarning)
         fit = distributions.fit_gpd(exc, threshold=threshold_m, method=method, years=max(years, 1e-6))
     return SurgeDistribution(x, threshold_m, exc.size / x.size, fit.scale, fit.shape)
+
+
+def _fit_tail_weighted(x, w, threshold_m) -> SurgeDistribution:
+    order = np.argsort(x, kind="stable")
+    xs, ws = x[order], w[order]
+    exc = xs > threshold_m
+    if np.count_nonzero(exc) < 10:
+        raise FitError(f"only {np.count_nonzero(exc)} surge values exceed the threshold {threshold_m:.3f} m; "
+                       "need >= 10 for a GPD tail (lower the threshold)")
+    cum = np.cumsum(ws) / ws.sum()
+    body = xs[np.minimum(np.searchsorted(cum, (np.arange(xs.size) + 0.5) / xs.size), xs.size - 1)]
+    scale, shape = gpd_mle_weighted(xs[exc] - threshold_m, ws[exc][None, :])[0]
+    if not np.isfinite(scale):
+        raise FitError("the weighted GPD fit of the surge tail failed")
+    return SurgeDistribution(body, threshold_m, float(ws[exc].sum() / ws.sum()), float(scale), float(shape))
 
 
 def grid_limits(components, *, events_per_year, theta_min, min_rate, h):
@@ -162,10 +184,12 @@ def component_rates(component, *, z0, nz, h, events_per_year, year_draws=None, m
     order = np.argsort(c.surge_m, kind="stable")
     x = c.surge_m[order]
     counts = year_draws[:, c.year_index[order]].astype(float)  # (B, n)
+    if c.weight is not None:
+        counts = counts * c.weight[order][None, :]  # seasonal-coverage weights ride on the year draws
     n_b = counts.sum(axis=1)
     exc = x > u
     y = x[exc] - u
-    exc_counts = counts[:, exc].astype(np.int64)
+    exc_counts = counts[:, exc] if c.weight is not None else counts[:, exc].astype(np.int64)
     n_exc = exc_counts.sum(axis=1)
     params = np.full((counts.shape[0], 2), np.nan)
     enough = n_exc >= 10

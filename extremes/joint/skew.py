@@ -127,6 +127,24 @@ def choose_threshold(series, threshold_m, threshold_quantile, notes, diagnostics
     return float(choice.threshold_m)
 
 
+def _month_weights(times, events_per_year, month_weighting, stratify, notes, diagnostics):
+    """Inverse-coverage weights of the skew surges by calendar month, or None (even coverage)."""
+    from extremes import season
+
+    if month_weighting not in ("auto", "none"):
+        raise DataError(f"month_weighting must be 'auto' or 'none'; got {month_weighting!r}")
+    coverage = season.monthly_coverage(times, tides_per_year=events_per_year)
+    diagnostics["monthly_coverage"] = {int(m): (None if not np.isfinite(c) else float(c)) for m, c in coverage.items()}
+    if month_weighting == "none" or stratify == "month":
+        return None
+    weights = season.month_weights(times, coverage)
+    if weights is not None:
+        low = coverage.dropna().idxmin()
+        notes.append(f"months covered unevenly (month {low} {coverage[low]:.0%}, best {coverage.max():.0%}): each "
+                     "skew surge weighted by the inverse of its month's coverage")
+    return weights
+
+
 def _band_labels(values, edges):
     return np.clip(np.searchsorted(edges, values, side="right") - 1, 0, len(edges) - 2)
 
@@ -135,7 +153,7 @@ def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None,
                                  tail_method="mle", clustering="level", extremal_index=None, n_offsets=32,
                                  min_exceedances=10, estimator="blocks", theta_beyond="trend", stratify=None, n_bands=3,
                                  skew_surge_tide_m=None, skew_surge_positions=None, interaction=None,
-                                 n_bootstrap=1000, confidence=0.95,
+                                 month_weighting="auto", n_bootstrap=1000, confidence=0.95,
                                  periods_years=DENSE_PERIODS_YEARS, high_water_years=None, grid_step_m=0.005,
                                  datum="unspecified", epoch_year=None, seed=0) -> JointProbabilityResult:
     r"""Still-water return levels by the skew-surge joint probability method.
@@ -180,6 +198,11 @@ def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None,
         a skew-surge frame, else inferred from the spacing of the skew surges
         (:func:`extremes.joint.clustering.positions_from_spacing`). Storm clustering lays the skew surges on the
         tide sequence by these positions, right for semidiurnal, mixed and diurnal tides.
+    month_weighting : {"auto", "none"}
+        ``auto``: when the record covers the calendar months unevenly (winter outages), weight each skew surge
+        by the inverse of its month's coverage (:func:`extremes.season.month_weights`), so that each month
+        enters the surge distribution by its share of the year's tides; ``none``: equal weights. Not used with
+        ``stratify="month"``, where each month has its own distribution.
     interaction : extremes.surge.InteractionTests, optional
         Result of the interaction tests; a level dependence gives an :class:`ExtremesWarning` and a note.
     n_bootstrap : int
@@ -286,12 +309,14 @@ def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None,
                    "assumption of the convolution is doubtful: use stratify='tide-band'")
             warnings.warn(msg, ExtremesWarning, stacklevel=2)
             notes.append(msg)
+    # -- seasonal coverage
+    weights = _month_weights(series.index, events_per_year, month_weighting, stratify, notes, diagnostics)
     # -- threshold and tail
     threshold_m = choose_threshold(series, threshold_m, threshold_quantile, notes, diagnostics, "skew-surge")
     year_ids, _ = engine.check_year_ids(series.index)
     components = []
     if stratify is None:
-        components.append(engine.Component("all", high_waters, 1.0, surge, year_ids))
+        components.append(engine.Component("all", high_waters, 1.0, surge, year_ids, weight=weights))
     elif stratify == "tide-band":
         if tide_of_surge is None or np.any(~np.isfinite(tide_of_surge)):
             raise DataError("stratify='tide-band' needs the predicted high water of each skew surge "
@@ -302,7 +327,8 @@ def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None,
         for b in range(n_bands):
             sel = s_band == b
             components.append(engine.Component(f"band {b + 1}", high_waters[hw_band == b],
-                                               float(np.mean(hw_band == b)), surge[sel], year_ids[sel]))
+                                               float(np.mean(hw_band == b)), surge[sel], year_ids[sel],
+                                               weight=None if weights is None else weights[sel]))
         notes.append(f"skew-surge distribution stratified by {n_bands} bands of predicted high water "
                      f"(edges {', '.join(f'{e:.2f}' for e in edges[1:-1])} m)")
     elif stratify == "month":
@@ -317,7 +343,8 @@ def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None,
     else:
         raise DataError(f"stratify must be None, 'tide-band' or 'month'; got {stratify!r}")
     for c in components:
-        c.surge = engine.fit_tail(c.surge_m, threshold_m=threshold_m, years=record_years, method=tail_method)
+        c.surge = engine.fit_tail(c.surge_m, threshold_m=threshold_m, years=record_years, method=tail_method,
+                                  weights=c.weight)
     # -- clustering
     if clustering == "level":
         if positions is None:
