@@ -66,8 +66,8 @@ def storm_surge(hours: np.ndarray, rng, *, storms_per_year=6.0, peak_scale_m=0.2
     n_storms = rng.poisson(rate * span_h / (YEAR_DAYS * DAY_H))
     t_storm = hours[0] - 5 * decay_hours + rng.random(n_storms) * span_h
     if winter_factor > 1:  # thin summer storms: rate ratio winter/summer = winter_factor
-        month = (T0 + pd.to_timedelta(t_storm, unit="h")).month.to_numpy()
-        summer = (month >= 4) & (month <= 9)
+        phase = (t_storm / DAY_H / YEAR_DAYS) % 1.0  # T0 is 1 January: April-September is 0.2466-0.7474
+        summer = (phase >= 90.0 / 365.2422) & (phase < 273.0 / 365.2422)
         keep = ~summer | (rng.random(n_storms) < 1.0 / winter_factor)
         t_storm = t_storm[keep]
     peak = 0.1 + rng.exponential(peak_scale_m, t_storm.size)
