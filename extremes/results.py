@@ -194,7 +194,8 @@ def study_tables(result: StudyResult) -> dict[str, pd.DataFrame]:
         "return_levels": result.return_level_table(),
         "constituents": pd.DataFrame([c.to_dict() for c in result.tide_model.constituents]),
         "datums": pd.DataFrame({"datum_name": list(result.datums.datums_m),
-                                "level_m": list(result.datums.datums_m.values())}),
+                                "level_m": list(result.datums.datums_m.values()),
+                                "includes": [result.datums.labels[k] for k in result.datums.datums_m]}),
         "annual_mean_sea_level": result.annual_msl.reset_index() if result.annual_msl.index.name
         else result.annual_msl,
         "skew_surges": result.skew_surges,

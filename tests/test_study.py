@@ -55,6 +55,8 @@ def test_results_json_has_every_contract_key(study):
     for key in ("duplicate", "sentinel", "spike", "flatline", "gap_hours"):
         assert key in document["record"]["flags"]
     assert {"HAT", "LAT", "MHWS", "MLWS", "MSL"} <= set(document["tide"]["datums_m"])
+    assert set(document["tide"]["datums_basis"]) == set(document["tide"]["datums_m"])
+    assert "radiational constituents Sa, Ssa, S1 left out" in document["tide"]["datums_basis"]["HAT"]
     constituent = document["tide"]["constituents"][0]
     assert {"name", "speed_deg_per_hour", "amplitude_m", "phase_deg", "amplitude_se_m", "phase_se_deg"} <= set(
         constituent)

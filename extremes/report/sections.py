@@ -152,7 +152,9 @@ def tide_section(document: dict, figures: tuple) -> Section:
                                 "The ten largest constituents."))
     datums = tide.get("datums_m") or {}
     if datums:
-        tables.append(TableItem(pd.DataFrame({"datum_name": list(datums), "level_m": list(datums.values())}),
+        basis = tide.get("datums_basis") or {}  # what each datum includes (radiational constituents...)
+        tables.append(TableItem(pd.DataFrame({"datum_name": list(datums), "level_m": list(datums.values()),
+                                              "includes": [basis.get(k, "") for k in datums]}),
                                 f"Tidal datums, metres above {datum}, at the epoch."))
     return Section(title="Astronomical tide", paragraphs=tuple(paragraphs), figures=figures, tables=tuple(tables))
 

@@ -159,6 +159,8 @@ class TidalDatums:
         Whether Sa, Ssa, S1 were included.
     datum : str
         Vertical datum of the levels.
+    constituents : tuple of str
+        Constituents in the prediction behind HAT, LAT and the means of high and low waters.
     """
 
     HAT: float
@@ -178,6 +180,7 @@ class TidalDatums:
     step_minutes: float
     include_radiational: bool
     datum: str
+    constituents: tuple = ()
 
     LEVELS = ("HAT", "LAT", "MHWS", "MLWS", "MHWN", "MLWN", "MHW", "MLW", "MHHW", "MLLW", "MSL", "MTL")
 
@@ -186,10 +189,33 @@ class TidalDatums:
         """Level name -> level. [m]"""
         return {name: float(getattr(self, name)) for name in self.LEVELS}
 
+    @property
+    def labels(self) -> dict[str, str]:
+        """Level name -> what the value includes (constituents, radiational terms, window), in words.
+
+        Some official datums are computed with the full set of constituents, radiational ones included, and
+        differ from these by centimetres or more (Williams et al. 2018, module references); every reported
+        value therefore says what it holds.
+        """
+        radiational = ("radiational constituents Sa, Ssa, S1 included" if self.include_radiational else
+                       "radiational constituents Sa, Ssa, S1 left out")
+        window = (f"{self.start:%Y-%m-%d} to {self.end:%Y-%m-%d}, {self.step_minutes:g}-min prediction, "
+                  f"{len(self.constituents)} constituents, {radiational}")
+        spring = "Z0 +/- (H_M2 +/- H_S2) (Pugh 1987): M2 and S2 amplitudes only"
+        return {
+            "HAT": f"highest predicted level, {window}", "LAT": f"lowest predicted level, {window}",
+            "MHWS": spring, "MLWS": spring, "MHWN": spring, "MLWN": spring,
+            "MHW": f"mean of all predicted high waters, {window}", "MLW": f"mean of all predicted low waters, {window}",
+            "MHHW": f"mean higher high water of each lunar day, {window}",
+            "MLLW": f"mean lower low water of each lunar day, {window}",
+            "MSL": "Z0 of the harmonic analysis (mean sea level of the analysed record)",
+            "MTL": "(MHW + MLW) / 2",
+        }
+
     def to_dict(self) -> dict:
         return {"datums_m": self.datums_m, "start": self.start.isoformat(), "end": self.end.isoformat(),
                 "step_minutes": self.step_minutes, "include_radiational": self.include_radiational,
-                "datum": self.datum}
+                "datum": self.datum, "constituents": list(self.constituents), "labels": self.labels}
 
     def __repr__(self) -> str:
         return f"TidalDatums(HAT={self.HAT:.3f} m, LAT={self.LAT:.3f} m, MSL={self.MSL:.3f} m, datum={self.datum!r})"
@@ -250,6 +276,7 @@ def tidal_datums(model: TideModel, *, start=None, years: float = NODAL_CYCLE_YEA
         MHWN=z0 + m2 - s2, MLWN=z0 - m2 + s2, MHW=mhw, MLW=mlw, MHHW=float(mhhw), MLLW=float(mllw), MSL=z0,
         MTL=0.5 * (mhw + mlw), start=start, end=end, step_minutes=float(step_minutes),
         include_radiational=bool(include_radiational), datum=model.datum,
+        constituents=tuple(c.name for c in model.constituents if c.name not in exclude),
     )
 
 

@@ -118,6 +118,7 @@ class TideStage:
         return {
             "constituents": [c.to_dict() for c in model.constituents],
             "datums_m": datums.datums_m,
+            "datums_basis": datums.labels,  # what each datum includes (constituents, radiational terms, window)
             "form_factor": self.form_factor,
             "tide_type": self.tide_type,
             "z0_m": model.z0_m,

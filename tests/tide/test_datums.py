@@ -72,6 +72,14 @@ def test_radiational_constituents_left_out_by_default():
     kept = tidal_datums(model, start=start, years=1.0, include_radiational=True)
     assert "Sa" in RADIATIONAL and "S1" in RADIATIONAL
     assert kept.HAT - default.HAT == pytest.approx(0.1, abs=0.01)
+    # every value says what it includes
+    assert default.constituents == ("M2",) and set(kept.constituents) == {"M2", "Sa"}
+    for name in ("HAT", "LAT", "MHW", "MLW", "MHHW", "MLLW"):
+        assert "Sa, Ssa, S1 left out" in default.labels[name] and "Sa, Ssa, S1 included" in kept.labels[name]
+        assert "2006-01-01" in default.labels[name]
+    assert set(default.labels) == set(default.datums_m)
+    assert "M2 and S2" in default.labels["MHWS"]
+    assert default.to_dict()["labels"] == default.labels
 
 
 def test_mixed_tide_higher_high_water():
