@@ -63,7 +63,8 @@ class SeaLevelRiseAssessment:
     scenarios : SeaLevelScenarios or None
     scenario_results : list of dict
     allowance : dict or None
-        Hunter allowance and its assumption.
+        Hunter allowance (closed form, ``allowance``), the allowance solved on the curve (``on_curve``, the one
+        used: ``used``) and the assumption.
     """
 
     method: str
@@ -161,12 +162,17 @@ def _allowance(sealevel, curve, scenarios, *, life, epoch_year):
     ends = {key: float(sealevel.rise_by_year(scenarios, names[key], start_year=epoch_year, design_life_years=life,
                                              reference_year=epoch_year)[-1])
             for key in ("low", "central", "high")}
+    from extremes.allowance import allowance_on_curve
+
     scale = sealevel.gumbel_scale_of_curve(curve, period_years=HEADLINE_PERIOD_YEARS)
+    sd = (ends["high"] - ends["low"]) / (2 * _Z90)
     return {
-        "allowance": sealevel.allowance_normal(mean_m=ends["central"], sd_m=(ends["high"] - ends["low"]) / (2 * _Z90),
-                                               scale_m=scale),
+        "allowance": sealevel.allowance_normal(mean_m=ends["central"], sd_m=sd, scale_m=scale),
+        # solved on the fitted curve itself (used); Hunter's closed form above, with the local Gumbel slope, beside
+        "on_curve": allowance_on_curve(curve, mean_m=ends["central"], sd_m=sd, period_years=HEADLINE_PERIOD_YEARS),
+        "used": "on_curve",
         "assumption": "rise at the end of the design life normal, mean = central scenario, 5-95 % range = low to "
-                      "high scenario; Gumbel scale from the 100-year slope of the curve",
+                      "high scenario; closed form with the Gumbel scale from the 100-year slope of the curve",
     }
 
 

@@ -27,6 +27,9 @@ def test_scenarios_give_encounter_design_level_and_allowance(tmp_path):
     assert mean == pytest.approx(0.6 * 49.5 / 80, abs=0.01)  # central rise by the mid-point of the last year
     assert allowance.scale_m == pytest.approx(0.2, rel=0.02)
     assert allowance.allowance_m == pytest.approx(mean + sd ** 2 / (2 * allowance.scale_m), rel=1e-6)
+    # the allowance the study uses, solved on the curve, equals the closed form on a Gumbel curve
+    assert slr.allowance["used"] == "on_curve"
+    assert slr.allowance["on_curve"].allowance_m == pytest.approx(allowance.allowance_m, abs=2e-3)
     # encounter probability of the 100-year level over 50 years without rise: 1 - 0.99^50 = 0.395 (METHODS [C])
     assert slr.encounter[0].probability == pytest.approx(0.395, abs=0.003)
 

@@ -343,6 +343,11 @@ def sea_level_rise_section(document: dict, figures: tuple) -> Section:
                           f"{a.get('allowance_m', np.nan):.3f} m (mean rise {a.get('mean_rise_m', np.nan):.3f} m, "
                           f"standard deviation {a.get('sd_rise_m', np.nan):.3f} m); assumption: "
                           f"{allowance.get('assumption', '')}.")
+        on_curve = allowance.get("on_curve")
+        if isinstance(on_curve, dict) and isinstance(on_curve.get("allowance_m"), (int, float)):
+            paragraphs.append(f"Allowance solved on the fitted curve itself (used): {on_curve['allowance_m']:.3f} m; "
+                              "the closed form above uses the curve's local Gumbel slope and errs for heavy or "
+                              "bounded tails.")
     tables = [TableItem(sea_level_rise_table(document), "Sea-level-rise offsets on the recommended levels.")]
     scenarios = [s for s in details.get("scenarios") or () if isinstance(s, dict)]
     if scenarios:
