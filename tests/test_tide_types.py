@@ -173,3 +173,24 @@ def test_tail_test_rejects_bad_input():
         tail_dependence_test(rec)
     with pytest.raises(ValueError, match="threshold_quantile"):
         tail_dependence_test(sim.record("diurnal", 2, 0), threshold_quantile=0.3)
+
+
+def test_stratified_method_lowers_a_threshold_too_high_for_a_tide_band():
+    # storm peaks damped at high tide leave the top band few exceedances of a high common threshold: the
+    # tide-band stratified method lowers the threshold until every band holds 30, and says so
+    import warnings
+
+    from extremes.errors import ExtremesWarning
+    from extremes.joint import skew_surge_joint_probability
+
+    rec = sim.record("semidiurnal", 15, 2, damping_per_m=1.5)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", ExtremesWarning)
+        res = skew_surge_joint_probability(sim.nodal_set("semidiurnal"), rec, stratify="tide-band",
+                                           threshold_quantile=0.999, n_bootstrap=0)
+    assert any("lowered" in note for note in res.notes)
+    u = res.threshold_m
+    x, hw = rec["skew_surge_m"].to_numpy(), rec["predicted_high_water_m"].to_numpy()
+    edges = np.quantile(sim.nodal_set("semidiurnal").to_numpy(), [1 / 3, 2 / 3])
+    band = np.searchsorted(edges, hw, side="right")
+    assert min(np.count_nonzero(x[band == b] > u) for b in range(3)) == 30

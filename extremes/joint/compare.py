@@ -3,9 +3,10 @@
 Rule (this package's, in order; never the highest or lowest level):
 
 1. ``skew-surge-joint-probability`` when the skew-surge record covers >= ``min_record_years_jpm`` (10) years
-   and the interaction test does not reject independence of skew surge and tide level (or the tide-band
-   stratified variant was used): it uses every tide, is free of timing errors and extrapolates through the
-   surge tail alone [1]_.
+   and the tail-focused interaction test (:mod:`extremes.tail_dependence`) finds no material dependence of the
+   skew-surge tail on the tide level, or the tide-band stratified variant was used (the study runs it whenever
+   the test finds one): it uses every tide, is free of timing errors and extrapolates through the surge tail
+   alone [1]_.
 2. ``joint-probability`` (revised JPM, hourly) under the same conditions when no skew-surge curve is given.
 3. Otherwise ``peaks-over-threshold`` (it uses every storm, annual maxima one value a year), else
    ``annual-maxima``, else ``r-largest``; direct fits on records shorter than ~20 years extrapolate poorly
@@ -132,10 +133,10 @@ def compare_methods(curves, *, record_years, interaction=None, stratified=False,
     if interaction is None:
         why.append("no interaction test given (independence of tide and surge assumed)")
     elif dependent:
-        why.append("skew surge depends on tide level (interaction test)" +
+        why.append("skew surge depends on tide level in its upper tail (tail-focused interaction test)" +
                    ("; the tide-band stratified convolution accounts for it" if stratified else ""))
     else:
-        why.append("skew surge independent of tide level (interaction test)")
+        why.append("no material dependence of the skew-surge tail on tide level (tail-focused interaction test)")
     pick = None
     if joint_ok:
         for name in ("skew-surge-joint-probability", "joint-probability"):

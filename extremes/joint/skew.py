@@ -145,6 +145,19 @@ def _month_weights(times, events_per_year, month_weighting, stratify, notes, dia
     return weights
 
 
+def _band_threshold(surge, band, n_bands, threshold_m, notes, min_exceedances=30):
+    """The common tail threshold, lowered when needed so that every tide band holds ``min_exceedances``."""
+    tops = [np.sort(surge[band == b])[::-1] for b in range(n_bands)]
+    if any(t.size <= min_exceedances for t in tops):
+        return threshold_m  # too few skew surges in a band: the tail fit says so
+    limit = min(float(t[min_exceedances]) for t in tops)
+    if limit < threshold_m:
+        notes.append(f"tail threshold lowered from {threshold_m:.3f} m to {limit:.3f} m so that every tide band "
+                     f"holds at least {min_exceedances} exceedances")
+        return limit
+    return threshold_m
+
+
 def _band_labels(values, edges):
     return np.clip(np.searchsorted(edges, values, side="right") - 1, 0, len(edges) - 2)
 
@@ -324,6 +337,7 @@ def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None,
         edges = np.quantile(high_waters, np.linspace(0, 1, n_bands + 1))
         edges[0], edges[-1] = -np.inf, np.inf
         hw_band, s_band = _band_labels(high_waters, edges), _band_labels(tide_of_surge, edges)
+        threshold_m = _band_threshold(surge, s_band, n_bands, threshold_m, notes)
         for b in range(n_bands):
             sel = s_band == b
             components.append(engine.Component(f"band {b + 1}", high_waters[hw_band == b],
