@@ -105,7 +105,8 @@ class InteractionTests:
                        "peak_threshold_m": float(self.peak_threshold_m), "dependent": bool(self.timing_dependent)},
             "level": {"kendall_tau": float(self.kendall_tau), "p_value": float(self.kendall_p_value),
                       "n_skew_surges": int(self.n_skew_surges),
-                      "n_skew_surges_tested": int(self.n_skew_surges_tested), "band_edges_m": [float(x) for x in self.band_edges_m],
+                      "n_skew_surges_tested": int(self.n_skew_surges_tested),
+                      "band_edges_m": [float(x) for x in self.band_edges_m],
                       "band_quantiles_m": {b: {str(q): float(v) for q, v in d.items()}
                                            for b, d in self.band_quantiles_m.items()},
                       "dependent": bool(self.level_dependent), "decided_by": "tail"},

@@ -34,8 +34,8 @@ import pandas as pd
 
 from extremes.errors import DataError
 
-__all__ = ["StormSeason", "storm_season", "storm_season_or_none", "monthly_coverage", "month_weights", "season_coverage_by_year",
-           "MIN_SEASON_COVERAGE", "UNEVEN_RATIO"]
+__all__ = ["StormSeason", "storm_season", "storm_season_or_none", "monthly_coverage", "month_weights",
+           "season_coverage_by_year", "MIN_SEASON_COVERAGE", "UNEVEN_RATIO"]
 
 #: least share of a year's storm-season samples for its annual maximum to count (METHODS sec. 14: 80-90 %)
 MIN_SEASON_COVERAGE = 0.85

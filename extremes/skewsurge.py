@@ -78,7 +78,8 @@ def skew_surges_from_turning_points(level_m: pd.Series, turning_points: pd.DataF
         ``observed_max_m``, ``observed_max_time``, ``skew_surge_m`` [m], ``observed_max_sample_m`` (the highest
         sample itself) [m], ``window_start``, ``window_end``, ``complete``, ``high_water_index`` (position of the
         predicted high water in the full sequence of predicted high waters, counted from the first kept one;
-        skipped cycles leave gaps). ``attrs`` holds ``n_cycles`` (high waters with a low water on each side inside the record),
+        skipped cycles leave gaps). ``attrs`` holds ``n_cycles`` (high waters with a low water on each side
+        inside the record),
         ``n_skipped`` (cycles dropped for incomplete data), ``units`` and ``datum``.
 
     Notes

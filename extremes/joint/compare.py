@@ -14,9 +14,9 @@ Rule (this package's, in order; never the highest or lowest level):
    maxima (GEV) always remain a check.
 
 Every level of the table is on one period basis (``basis``, default ``"1/rate"``): annual-maximum models
-(``1/AEP``) are read at the same annual exceedance probability as the rate models, since at 1.5-2 years the two
-definitions differ by 0.5 year or more. A method whose curve is missing at the comparison periods is skipped. The reason states the record length,
-the interaction verdict and any diagnostics passed in.
+(``1/AEP``) are read at the same annual exceedance probability as the rate models, since at 1.5-2 years the
+two definitions differ by 0.5 year or more. A method whose curve is missing at the comparison periods is
+skipped. The reason states the record length, the interaction verdict and any diagnostics passed in.
 
 References
 ----------
