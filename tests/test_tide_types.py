@@ -13,8 +13,13 @@ from scipy import signal, stats
 
 from extremes import surge
 from extremes.errors import DataError
-from extremes.joint.clustering import (cycle_positions, extremal_index_by_level, high_water_positions,
-                                       positions_from_spacing, spring_neap_block_length)
+from extremes.joint.clustering import (
+    cycle_positions,
+    extremal_index_by_level,
+    high_water_positions,
+    positions_from_spacing,
+    spring_neap_block_length,
+)
 from extremes.tail_dependence import _fit_gpd_bands, _storm_peaks, gpd_band_loglik, tail_dependence_test
 from tests import tide_types_sim as sim
 

@@ -27,8 +27,12 @@ from extremes.constants import DAYS_PER_YEAR, NODAL_CYCLE_YEARS
 from extremes.curves import DENSE_PERIODS_YEARS, ReturnLevelCurve
 from extremes.errors import DataError, ExtremesWarning
 from extremes.joint import engine
-from extremes.joint.clustering import (extremal_index_by_level, positions_from_spacing, spring_neap_block_length,
-                                       theta_function)
+from extremes.joint.clustering import (
+    extremal_index_by_level,
+    positions_from_spacing,
+    spring_neap_block_length,
+    theta_function,
+)
 from extremes.joint.core import levels_for_rates
 from extremes.joint.result import CLUSTERING_TABLE_PERIODS_YEARS, JointProbabilityResult
 from extremes.timebase import level_series
