@@ -23,13 +23,14 @@ import sys
 import time
 import warnings
 from pathlib import Path
+from types import SimpleNamespace
 
 import numpy as np
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 from extremes.curves import period_from_aep  # noqa: E402
 from extremes.errors import ExtremesError  # noqa: E402
-from extremes.joint import skew_surge_joint_probability  # noqa: E402
+from extremes.joint import skew_surge_joint_probability, skew_surge_method_for  # noqa: E402
 from extremes.joint.clustering import cycle_positions  # noqa: E402
 from extremes.tail_dependence import tail_dependence_test  # noqa: E402
 from tests import tide_types_sim as sim  # noqa: E402
@@ -47,20 +48,21 @@ FORMER_SEEDS = 5
 
 
 def estimate(kind, seed, years, storm, fit, *, former=False):
-    """Recommended level of AEP 1 % from one simulated record, whether the interaction test flagged it, and the
-    level without stratification (the same when not flagged)."""
+    """Recommended level of AEP 1 % from one simulated record (as the study chooses the method), whether the
+    interaction test flagged it, and the level of the unstratified method."""
     rec = sim.record(kind, years, seed, **storm)
-    flagged = tail_dependence_test(rec).dependent
+    tested = SimpleNamespace(level_dependent=tail_dependence_test(rec).dependent)
     options = dict(n_bootstrap=0, seed=seed, **fit)
     if former:
         options["skew_surge_positions"] = cycle_positions(rec["time"], step_hours=12.4206)
     period = period_from_aep([AEP], definition="1/rate")
     hw = sim.nodal_set(kind)
-    plain = float(skew_surge_joint_probability(hw, rec, **options).curve.level_at(period)[0])
-    if not flagged:
-        return plain, flagged, plain
-    level = skew_surge_joint_probability(hw, rec, stratify="tide-band", **options).curve.level_at(period)[0]
-    return float(level), flagged, plain
+    res, stratified = skew_surge_method_for(hw, rec, interaction=tested, **options)
+    level = float(res.curve.level_at(period)[0])
+    if not stratified:
+        return level, tested.level_dependent, level
+    plain = skew_surge_joint_probability(hw, rec, **options).curve.level_at(period)[0]
+    return level, tested.level_dependent, float(plain)
 
 
 def main():

@@ -216,9 +216,8 @@ def run_study_record(record, *, options: StudyOptions | None = None,
         curves, method_details = _direct_methods(joint, tide.level_epoch_m, options, common, notes,
                                                  season_months=season.months if season else None)
         stages.start("joint probability")
-        stratify = "tide-band" if tide.interaction.level_dependent else None  # the tail test decides
-        ssjpm = joint.skew_surge_joint_probability(
-            tide.high_water_series, tide.skew_surges, interaction=tide.interaction, stratify=stratify,
+        ssjpm, stratified = joint.skew_surge_method_for(  # tide-band stratified when the tail test finds dependence
+            tide.high_water_series, tide.skew_surges, interaction=tide.interaction, notes=notes,
             n_bootstrap=options.resamples, confidence=options.confidence, seed=options.seed, **common,
         )
         curves["skew-surge-joint-probability"] = ssjpm.curve
@@ -228,7 +227,7 @@ def run_study_record(record, *, options: StudyOptions | None = None,
         else:
             notes.append("joint-probability (hourly) left out: a comparison method, skipped for model points")
         comparison = joint.compare_methods(curves, record_years=record_years, interaction=tide.interaction,
-                                           stratified=stratify == "tide-band", periods_years=options.periods_years)
+                                           stratified=stratified, periods_years=options.periods_years)
 
         stages.start("sea-level rise")
         slr = assess_sea_level_rise(curves[comparison.recommended_method], offsets_m=options.slr_m,

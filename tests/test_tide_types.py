@@ -182,7 +182,7 @@ def test_tail_test_rejects_bad_input():
 
 def test_stratified_method_lowers_a_threshold_too_high_for_a_tide_band():
     # storm peaks damped at high tide leave the top band few exceedances of a high common threshold: the
-    # tide-band stratified method lowers the threshold until every band holds 30, and says so
+    # tide-band stratified method lowers the threshold until every band holds 50, and says so
     import warnings
 
     from extremes.errors import ExtremesWarning
@@ -198,4 +198,29 @@ def test_stratified_method_lowers_a_threshold_too_high_for_a_tide_band():
     x, hw = rec["skew_surge_m"].to_numpy(), rec["predicted_high_water_m"].to_numpy()
     edges = np.quantile(sim.nodal_set("semidiurnal").to_numpy(), [1 / 3, 2 / 3])
     band = np.searchsorted(edges, hw, side="right")
-    assert min(np.count_nonzero(x[band == b] > u) for b in range(3)) == 30
+    assert min(np.count_nonzero(x[band == b] > u) for b in range(3)) == 50
+
+
+def test_skew_surge_method_follows_the_interaction_test():
+    import warnings
+
+    from extremes.errors import ExtremesWarning
+    from extremes.joint import skew_surge_method_for
+
+    class Dependent:  # stands for InteractionTests with a material tail dependence
+        level_dependent = True
+        verdict = "tail depends on tide"
+
+    rec = sim.record("semidiurnal", 12, 3)
+    hw = sim.nodal_set("semidiurnal")
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", ExtremesWarning)
+        res, stratified = skew_surge_method_for(hw, rec, interaction=Dependent(), n_bootstrap=0)
+        assert stratified and set(res.tail) == {"band 1", "band 2", "band 3"}
+        res, stratified = skew_surge_method_for(hw, rec, interaction=None, n_bootstrap=0)
+        assert not stratified and set(res.tail) == {"all"}
+        # per-band fits that cannot be made (200 bands of about 40 tides): the unstratified method, said so
+        notes = []
+        res, stratified = skew_surge_method_for(hw, rec, interaction=Dependent(), notes=notes, n_bands=200,
+                                                n_bootstrap=0)
+    assert not stratified and set(res.tail) == {"all"} and "failed" in notes[0]

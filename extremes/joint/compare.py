@@ -31,12 +31,12 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
-from extremes.errors import DataError
+from extremes.errors import DataError, ExtremesError
 from extremes.jsonable import to_jsonable
 
 logger = logging.getLogger(__name__)
 
-__all__ = ["MethodComparison", "compare_methods", "COMPARISON_PERIODS_YEARS"]
+__all__ = ["MethodComparison", "compare_methods", "COMPARISON_PERIODS_YEARS", "skew_surge_method_for"]
 
 #: default periods of the comparison table [years]
 COMPARISON_PERIODS_YEARS = (1.5, 2, 5, 10, 20, 50, 100, 200, 500, 1000)
@@ -166,3 +166,40 @@ def compare_methods(curves, *, record_years, interaction=None, stratified=False,
     for name, text in (diagnostics or {}).items():
         why.append(f"{name}: {text}")
     return MethodComparison(table=table, recommended_method=pick, reason="; ".join(why) + ".", spread_m=spread)
+
+
+def skew_surge_method_for(high_waters_m, skew_surge, *, interaction, notes=None, **options):
+    """The skew-surge joint probability the interaction test calls for: tide-band stratified on dependence.
+
+    When ``interaction.level_dependent`` (the tail-focused test of :mod:`extremes.tail_dependence`), the
+    tide-band stratified convolution is run (Tawn & Vassie 1989; Batstone et al. 2013 [1]_); should its
+    per-band tail fits fail, the unstratified method is run instead, said so in ``notes``, and reported as not
+    stratified, so that :func:`compare_methods` does not recommend it.
+
+    Parameters
+    ----------
+    high_waters_m, skew_surge
+        As in :func:`extremes.joint.skew_surge_joint_probability`.
+    interaction : extremes.surge.InteractionTests or None
+        The interaction tests.
+    notes : list of str, optional
+        Receives the note of a fallback.
+    **options
+        Keyword options of :func:`extremes.joint.skew_surge_joint_probability` (not ``stratify``).
+
+    Returns
+    -------
+    tuple
+        ``(JointProbabilityResult, stratified: bool)``.
+    """
+    from extremes.joint.skew import skew_surge_joint_probability
+
+    if bool(getattr(interaction, "level_dependent", False)):
+        try:
+            return skew_surge_joint_probability(high_waters_m, skew_surge, interaction=interaction,
+                                                stratify="tide-band", **options), True
+        except ExtremesError as err:
+            if notes is not None:
+                notes.append(f"the tide-band stratified skew-surge method failed ({err}); the unstratified method "
+                             "is reported although the skew-surge tail depends on the tide, and is not recommended")
+    return skew_surge_joint_probability(high_waters_m, skew_surge, interaction=interaction, **options), False

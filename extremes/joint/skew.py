@@ -149,7 +149,7 @@ def _month_weights(times, events_per_year, month_weighting, stratify, notes, dia
     return weights
 
 
-def _band_threshold(surge, band, n_bands, threshold_m, notes, min_exceedances=30):
+def _band_threshold(surge, band, n_bands, threshold_m, notes, min_exceedances=50):
     """The common tail threshold, lowered when needed so that every tide band holds ``min_exceedances``."""
     tops = [np.sort(surge[band == b])[::-1] for b in range(n_bands)]
     if any(t.size <= min_exceedances for t in tops):
