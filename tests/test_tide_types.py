@@ -180,25 +180,31 @@ def test_tail_test_rejects_bad_input():
         tail_dependence_test(sim.record("diurnal", 2, 0), threshold_quantile=0.3)
 
 
-def test_stratified_method_lowers_a_threshold_too_high_for_a_tide_band():
-    # storm peaks damped at high tide leave the top band few exceedances of a high common threshold: the
-    # tide-band stratified method lowers the threshold until every band holds 50, and says so
+def test_stratified_method_sets_each_band_threshold_at_the_same_probability():
+    # storm peaks damped at high tide leave the top band few exceedances of a high common threshold: each band's
+    # threshold is its own quantile at the common threshold's exceedance probability, so every band holds its
+    # share of exceedances (the level of each threshold checked against numpy.quantile)
     import warnings
 
     from extremes.errors import ExtremesWarning
     from extremes.joint import skew_surge_joint_probability
 
     rec = sim.record("semidiurnal", 15, 2, damping_per_m=1.5)
+    hw_set = sim.nodal_set("semidiurnal").to_numpy()
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", ExtremesWarning)
-        res = skew_surge_joint_probability(sim.nodal_set("semidiurnal"), rec, stratify="tide-band",
-                                           threshold_quantile=0.999, n_bootstrap=0)
-    assert any("lowered" in note for note in res.notes)
-    u = res.threshold_m
+        res = skew_surge_joint_probability(hw_set, rec, stratify="tide-band", threshold_quantile=0.98,
+                                           n_bootstrap=0)
     x, hw = rec["skew_surge_m"].to_numpy(), rec["predicted_high_water_m"].to_numpy()
-    edges = np.quantile(sim.nodal_set("semidiurnal").to_numpy(), [1 / 3, 2 / 3])
+    edges = np.quantile(hw_set, [1 / 3, 2 / 3])
     band = np.searchsorted(edges, hw, side="right")
-    assert min(np.count_nonzero(x[band == b] > u) for b in range(3)) == 50
+    u = np.quantile(x, 0.98)
+    p = np.mean(x > u)
+    for b in range(3):
+        tail = res.tail[f"band {b + 1}"]
+        assert tail["threshold_m"] == pytest.approx(np.quantile(x[band == b], 1 - p), abs=1e-12)
+    assert res.tail["band 3"]["threshold_m"] < u < res.tail["band 1"]["threshold_m"]  # damped at high tide
+    assert any("own" in note for note in res.notes)
 
 
 def test_skew_surge_method_follows_the_interaction_test():

@@ -149,17 +149,20 @@ def _month_weights(times, events_per_year, month_weighting, stratify, notes, dia
     return weights
 
 
-def _band_threshold(surge, band, n_bands, threshold_m, notes, min_exceedances=50):
-    """The common tail threshold, lowered when needed so that every tide band holds ``min_exceedances``."""
-    tops = [np.sort(surge[band == b])[::-1] for b in range(n_bands)]
-    if any(t.size <= min_exceedances for t in tops):
-        return threshold_m  # too few skew surges in a band: the tail fit says so
-    limit = min(float(t[min_exceedances]) for t in tops)
-    if limit < threshold_m:
-        notes.append(f"tail threshold lowered from {threshold_m:.3f} m to {limit:.3f} m so that every tide band "
-                     f"holds at least {min_exceedances} exceedances")
-        return limit
-    return threshold_m
+def _band_thresholds(surge, band, n_bands, threshold_m, notes):
+    """Tail threshold of each tide band: the band's quantile at the exceedance probability of the common one.
+
+    Every band then holds its share of exceedances, and a band whose storms are damped (or amplified) keeps its
+    threshold at the same probability level instead of one set by the other bands (this package's choice).
+    """
+    p = float(np.mean(surge > threshold_m))
+    out = {}
+    for b in range(n_bands):
+        values = surge[band == b]
+        out[f"band {b + 1}"] = float(np.quantile(values, 1.0 - p)) if values.size else float(threshold_m)
+    notes.append(f"tail threshold of each tide band at its own {1 - p:.4g} quantile (the level of the common "
+                 f"threshold {threshold_m:.3f} m): " + ", ".join(f"{k} {v:.3f} m" for k, v in out.items()))
+    return out
 
 
 def _band_labels(values, edges):
@@ -331,7 +334,7 @@ def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None,
     # -- threshold and tail
     threshold_m = choose_threshold(series, threshold_m, threshold_quantile, notes, diagnostics, "skew-surge")
     year_ids, _ = engine.check_year_ids(series.index)
-    components = []
+    components, band_thresholds = [], {}
     if stratify is None:
         components.append(engine.Component("all", high_waters, 1.0, surge, year_ids, weight=weights))
     elif stratify == "tide-band":
@@ -341,7 +344,7 @@ def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None,
         edges = np.quantile(high_waters, np.linspace(0, 1, n_bands + 1))
         edges[0], edges[-1] = -np.inf, np.inf
         hw_band, s_band = _band_labels(high_waters, edges), _band_labels(tide_of_surge, edges)
-        threshold_m = _band_threshold(surge, s_band, n_bands, threshold_m, notes)
+        band_thresholds = _band_thresholds(surge, s_band, n_bands, threshold_m, notes)
         for b in range(n_bands):
             sel = s_band == b
             components.append(engine.Component(f"band {b + 1}", high_waters[hw_band == b],
@@ -361,7 +364,8 @@ def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None,
     else:
         raise DataError(f"stratify must be None, 'tide-band' or 'month'; got {stratify!r}")
     for c in components:
-        c.surge = engine.fit_tail(c.surge_m, threshold_m=threshold_m, years=record_years, method=tail_method,
+        c.surge = engine.fit_tail(c.surge_m, threshold_m=band_thresholds.get(c.label, threshold_m),
+                                  years=record_years, method=tail_method,
                                   weights=c.weight)
     # -- clustering
     if clustering == "level":
