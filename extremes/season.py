@@ -204,22 +204,24 @@ def season_coverage_by_year(level_m, season_months, *, water_year_start_month=1)
     Returns
     -------
     pandas.Series
-        Coverage (0-1) indexed by year label; the expected samples are the season's length over the sampling
-        interval (the median spacing).
+        Coverage (0-1) indexed by year label: the time represented by the valid samples of the season months
+        (each sample its sampling era's interval, :mod:`extremes.sampling`) over the season's length.
     """
     if not isinstance(level_m, pd.Series) or not isinstance(level_m.index, pd.DatetimeIndex):
         raise DataError("level_m must be a pandas Series on a UTC DatetimeIndex")
     months = sorted({int(m) for m in season_months})
     if not months or months[0] < 1 or months[-1] > 12:
         raise DataError(f"season_months must be calendar months 1-12; got {list(season_months)!r}")
+    from extremes.sampling import sample_intervals_ns
+
     idx = level_m.index.tz_convert("UTC")
-    ns = idx.as_unit("ns").asi8
-    step = np.median(np.diff(ns)[np.diff(ns) > 0]) if ns.size > 1 else np.nan
-    if not np.isfinite(step):
+    if idx.size < 2:
         raise DataError("level_m needs at least two time stamps to infer its sampling interval")
+    # each valid sample counts the time it represents (its sampling era's interval), as the whole-year rule
+    represented = np.where(np.isfinite(level_m.to_numpy(dtype=float)), sample_intervals_ns(idx).astype(float), 0.0)
     labels = np.asarray(idx.year - (idx.month < water_year_start_month).astype(int))
-    in_season = np.isin(idx.month, months) & np.isfinite(level_m.to_numpy(dtype=float))
-    valid = pd.Series(in_season.astype(float), index=labels).groupby(level=0).sum()
+    in_season = np.isin(idx.month, months)
+    valid = pd.Series(np.where(in_season, represented, 0.0), index=labels).groupby(level=0).sum()
     out = {}
     for year in range(int(labels.min()), int(labels.max()) + 1):
         expected_ns = 0.0
@@ -227,7 +229,7 @@ def season_coverage_by_year(level_m, season_months, *, water_year_start_month=1)
             y = year + (1 if m < water_year_start_month else 0)
             a = pd.Timestamp(year=y, month=m, day=1, tz="UTC")
             expected_ns += ((a + pd.offsets.MonthBegin(1)) - a).value
-        out[year] = min(1.0, float(valid.get(year, 0.0)) / (expected_ns / step))
+        out[year] = min(1.0, float(valid.get(year, 0.0)) / expected_ns)
     return pd.Series(out, name="season_coverage", dtype=float)
 
 
