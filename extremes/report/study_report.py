@@ -1,17 +1,14 @@
 """The report of a study just run: its figures drawn from the study's data, then the HTML and PDF.
 
 The figures that need the record (the record and its flags, the tide fit, the surge, each fit's
-diagnostics, the methods side by side) are drawn here from the :class:`extremes.results.StudyResult`, in
-two forked worker processes where possible. Everything else, text and tables, comes from the results
-document alone (:mod:`extremes.report.content`), so that a results folder's report can be rebuilt later
+diagnostics, the methods side by side) are drawn here from the :class:`extremes.results.StudyResult`.
+Everything else, text and tables, comes from the results document alone (:mod:`extremes.report.content`), so that a results folder's report can be rebuilt later
 (:func:`extremes.report.assemble.refresh_report`).
 """
 from __future__ import annotations
 
 import functools
 import logging
-import multiprocessing
-import os
 from collections.abc import Callable
 
 import numpy as np
@@ -21,15 +18,10 @@ logger = logging.getLogger(__name__)
 
 __all__ = ["build_study_report"]
 
-#: the figure jobs of the report being drawn (read by forked workers, which inherit them)
-_JOBS: list = []
-
-
-def _draw(index: int) -> bytes | None:
-    """Build and draw figure job ``index`` of :data:`_JOBS` as PNG bytes (None if it fails)."""
+def _draw(name: str, build: Callable) -> bytes | None:
+    """Build and draw one figure job as PNG bytes (None if it fails)."""
     from extremes.report import figures
 
-    name, build = _JOBS[index]
     try:
         fig = build()
         return None if fig is None else figures.to_png(fig)
@@ -39,26 +31,10 @@ def _draw(index: int) -> bytes | None:
 
 
 def _draw_all(jobs) -> dict[str, bytes]:
-    """Draw every figure job; on two or more cores in forked worker processes, else one by one."""
-    global _JOBS
-    _JOBS = list(jobs)
-    try:
-        workers = min(len(_JOBS), os.cpu_count() or 1, 2)
-        drawn = None
-        # daemonic processes (e.g. dask workers) may not have children: they draw one by one
-        if (workers > 1 and "fork" in multiprocessing.get_all_start_methods()
-                and not multiprocessing.current_process().daemon):
-            try:
-                with multiprocessing.get_context("fork").Pool(workers) as pool:
-                    drawn = pool.map(_draw, range(len(_JOBS)), chunksize=1)
-            except (OSError, AssertionError, RuntimeError) as err:
-                logger.info("figures drawn one by one (no worker processes: %s)", err)
-        if drawn is None:
-            drawn = [_draw(i) for i in range(len(_JOBS))]
-    finally:
-        names = [name for name, _ in _JOBS]
-        _JOBS = []
-    return {name: png for name, png in zip(names, drawn) if png is not None}
+    """Draw every figure job, one after the other (the library starts no processes: it runs inside dask
+    workers too; parallelism belongs to the caller, e.g. one study per worker in a batch)."""
+    drawn = {name: _draw(name, build) for name, build in jobs}
+    return {name: png for name, png in drawn.items() if png is not None}
 
 
 def _fit_jobs(result, figures) -> list[tuple[str, Callable]]:
