@@ -25,7 +25,7 @@ def _recomputed(document: dict, curves: dict, *, chosen: str, offsets, periods, 
     import pandas as pd
 
     from extremes.report.cautions import standard_cautions
-    from extremes.sealevel_assessment import assess_sea_level_rise
+    from extremes.sealevel import assess_sea_level_rise
 
     slr = assess_sea_level_rise(curves[chosen], offsets_m=offsets, periods_years=periods,
                                 design_life_years=study.get("design_life_years", 50.0),
@@ -45,7 +45,7 @@ def rerun_sea_level_rise(results_dir, *, slr_m, periods_years=None, method: str 
     """New sea-level-rise offsets on the saved curves of the study in ``results_dir``.
 
     Everything the study derives from the offsets (and the periods) is recomputed by the same stage
-    function the study uses (:func:`extremes.sealevel_assessment.assess_sea_level_rise`): the raised levels,
+    function the study uses (:func:`extremes.sealevel.stage.assess_sea_level_rise`): the raised levels,
     their present return periods, amplification, encounter probabilities and design levels for each offset,
     scenario results and allowance, the return-level table at the periods and the cautions. The options
     recorded in the results say the new offsets and periods, so the document equals that of a fresh study

@@ -184,13 +184,13 @@ def run_study_record(record, *, options: StudyOptions | None = None,
     :func:`extremes.tide.stage.analyse_record_tide`, the direct methods
     (:mod:`extremes.joint.direct` over :func:`extremes.extremal.sample_fit.fit_sample`), the joint methods
     (:mod:`extremes.joint`), :func:`extremes.joint.compare_methods` and
-    :func:`extremes.sealevel_assessment.assess_sea_level_rise`.
+    :func:`extremes.sealevel.stage.assess_sea_level_rise`.
     """
     from extremes import joint, quality, sealevel
     from extremes import season as season_rules
     from extremes.report.cautions import standard_cautions
     from extremes.results import StudyResult
-    from extremes.sealevel_assessment import assess_sea_level_rise
+    from extremes.sealevel import assess_sea_level_rise
     from extremes.tide.stage import analyse_record_tide
 
     options = options or StudyOptions()

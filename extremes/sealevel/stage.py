@@ -162,7 +162,7 @@ def _allowance(sealevel, curve, scenarios, *, life, epoch_year):
     ends = {key: float(sealevel.rise_by_year(scenarios, names[key], start_year=epoch_year, design_life_years=life,
                                              reference_year=epoch_year)[-1])
             for key in ("low", "central", "high")}
-    from extremes.allowance import allowance_on_curve
+    from extremes.sealevel.allowance import allowance_on_curve
 
     scale = sealevel.gumbel_scale_of_curve(curve, period_years=HEADLINE_PERIOD_YEARS)
     sd = (ends["high"] - ends["low"]) / (2 * _Z90)

@@ -6,10 +6,10 @@ import numpy as np
 import pytest
 from scipy import integrate, optimize, stats
 
-from extremes.allowance import allowance_on_curve, normal_rise_nodes
 from extremes.curves import DENSE_PERIODS_YEARS as P
 from extremes.curves import ReturnLevelCurve
 from extremes.errors import DataError
+from extremes.sealevel.allowance import allowance_on_curve, normal_rise_nodes
 
 
 def _gumbel(scale):

@@ -4,7 +4,7 @@ import pytest
 
 from extremes.curves import DENSE_PERIODS_YEARS, ReturnLevelCurve
 from extremes.errors import DataError
-from extremes.sealevel_assessment import assess_sea_level_rise
+from extremes.sealevel.stage import assess_sea_level_rise
 
 
 def _gumbel_curve(loc=2.0, scale=0.2):
