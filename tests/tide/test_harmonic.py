@@ -228,7 +228,7 @@ def test_analysis_input_errors():
 def test_regular_grid_prediction_matches_sample_by_sample_synthesis(monkeypatch):
     # the block recurrence on regular grids against the direct sum f H cos(V + u - G) at every sample
     # (Schureman 1958 prediction formula, METHODS.md sec. 3): within 1e-4 of each amplitude
-    from extremes.tide import harmonic
+    from extremes.tide import harmonic, synthesis
 
     names = ["M2", "S2", "N2", "K2", "K1", "O1", "P1", "Q1", "M4", "MS4", "Sa", "Mf", "L2", "M1", "J1"]
     rng = np.random.default_rng(3)
@@ -236,9 +236,9 @@ def test_regular_grid_prediction_matches_sample_by_sample_synthesis(monkeypatch)
     for freq, periods in (("10min", 60_000), ("1h", 30_000), ("7min", 4_000)):
         times = pd.date_range("2003-05-06 07:11", periods=periods, freq=freq, tz="UTC")
         fast = harmonic.predict_tide(times, names, amplitudes, phases)
-        monkeypatch.setattr(harmonic, "_REGULAR_MIN", 10**12)
+        monkeypatch.setattr(synthesis, "_REGULAR_MIN", 10**12)
         slow = harmonic.predict_tide(times, names, amplitudes, phases)
-        monkeypatch.setattr(harmonic, "_REGULAR_MIN", 2048)
+        monkeypatch.setattr(synthesis, "_REGULAR_MIN", 2048)
         assert np.max(np.abs(fast - slow)) < 1e-4 * amplitudes.sum(), freq
 
 
@@ -246,7 +246,7 @@ def test_analysis_on_a_gappy_regular_grid_matches_the_sample_by_sample_design(mo
     # the block phases used for records on a regular grid with gaps give the same harmonic constants as the
     # direct design f cos(V + u), f sin(V + u) at every sample (least squares of METHODS.md sec. 5) to within
     # 0.05 mm and 0.01 deg; inferred constituents (P1, K2 on a short record) included
-    from extremes.tide import harmonic
+    from extremes.tide import synthesis
 
     names = ["M2", "S2", "K1", "O1", "N2", "K2", "P1", "M4"]
     times = pd.date_range("1995-01-01", periods=120 * 144, freq="10min", tz="UTC")
@@ -254,7 +254,7 @@ def test_analysis_on_a_gappy_regular_grid_matches_the_sample_by_sample_design(mo
     level = pd.Series(level + np.random.default_rng(5).normal(0, 0.05, times.size), index=times)
     level.iloc[1000:3000] = np.nan
     fast = analyse_tide(level)
-    monkeypatch.setattr(harmonic, "_REGULAR_MIN", 10**12)
+    monkeypatch.setattr(synthesis, "_REGULAR_MIN", 10**12)
     slow = analyse_tide(level)
     assert any(c.inferred for c in fast.constituents)
     for c in fast.constituents:
