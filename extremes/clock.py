@@ -115,7 +115,7 @@ class _CompactTide:
     def _design(self, phase, f):
         m = len(self.names)
         c, s_ = f[:, :m] * np.cos(phase[:, :m]), f[:, :m] * np.sin(phase[:, :m])
-        for q, (_name, (ref, ratio)) in enumerate(self.inferred.items()):
+        for q, (ref, ratio) in enumerate(self.inferred.values()):
             r = self.names.index(ref)
             c[:, r] += ratio * f[:, m + q] * np.cos(phase[:, m + q])
             s_[:, r] += ratio * f[:, m + q] * np.sin(phase[:, m + q])
