@@ -19,6 +19,8 @@ from extremes.cli import cli
 from extremes.examples import example_records_folder
 from tests.archive_records import archive_record
 
+pytestmark = pytest.mark.slow  # whole studies, batches or simulations
+
 
 @pytest.fixture(scope="module")
 def archive(tmp_path_factory):
