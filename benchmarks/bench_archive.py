@@ -60,7 +60,14 @@ def plan(years: float) -> dict:
     }
 
 
+#: one BLAS thread in every step (as the batch benchmark): on a shared, oversubscribed machine OpenBLAS's
+#: spinning threads can make a small matrix product a thousand times slower and swamp every other cost
+ENV = {"OPENBLAS_NUM_THREADS": "1", "OMP_NUM_THREADS": "1", "MKL_NUM_THREADS": "1"}
+
+
 def run_step(code: str, path: Path, corrections: Path) -> dict:
+    import os
+
     script = (
         "import resource, time, json, warnings\n"
         "warnings.simplefilter('ignore')\n"
@@ -69,10 +76,12 @@ def run_step(code: str, path: Path, corrections: Path) -> dict:
         "t0 = time.perf_counter()\n"
         f"{code}\n"
         "elapsed = time.perf_counter() - t0\n"
-        "print(json.dumps({'seconds': elapsed, "
-        "'maxrss_mb': resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024}))\n"
+        "use = resource.getrusage(resource.RUSAGE_SELF)\n"
+        "print(json.dumps({'seconds': elapsed, 'cpu_seconds': use.ru_utime + use.ru_stime, "
+        "'maxrss_mb': use.ru_maxrss / 1024}))\n"
     )
-    out = subprocess.run([sys.executable, "-c", script], capture_output=True, text=True, check=True, cwd=ROOT)
+    out = subprocess.run([sys.executable, "-c", script], capture_output=True, text=True, check=True, cwd=ROOT,
+                         env=dict(os.environ, **ENV))
     return json.loads(out.stdout.strip().splitlines()[-1])
 
 
@@ -81,28 +90,30 @@ def main(argv=None) -> None:
     parser.add_argument("--years", type=float, default=40.0, help="record length [years] (default 40)")
     parser.add_argument("--repeat", type=int, default=1, help="runs per step; the fastest is shown")
     args = parser.parse_args(argv)
-    sys.path.insert(0, str(ROOT))
-    from tests.archive_records import archive_record
-
     with tempfile.TemporaryDirectory() as folder:
         path = Path(folder) / "archive.csv"
         corrections = Path(folder) / "logs.csv"
         t0 = time.perf_counter()
-        text, truth = archive_record(plan(args.years))
-        path.write_text(text)
-        corrections.write_text(truth["corrections_csv"])
-        del text
-        print(f"wrote {truth['n_rows']:,} rows ({path.stat().st_size / 1e6:.0f} MB) in "
+        # written by a child process, so that this process (whose peak memory the steps would inherit) stays small
+        writer = ("import json, sys; sys.path.insert(0, '.'); from tests.archive_records import archive_record; "
+                  "from benchmarks.bench_archive import plan; "
+                  f"text, truth = archive_record(plan({args.years!r})); "
+                  f"open({str(path)!r}, 'w').write(text); open({str(corrections)!r}, 'w').write(truth['corrections_csv']); "
+                  "print(truth['n_rows'])")
+        n_rows = int(subprocess.run([sys.executable, "-c", writer], capture_output=True, text=True, check=True,
+                                    cwd=ROOT).stdout.split()[-1])
+        print(f"wrote {n_rows:,} rows ({path.stat().st_size / 1e6:.0f} MB) in "
               f"{time.perf_counter() - t0:.1f} s", file=sys.stderr)
         results = {}
         for name, code in STEPS.items():
             runs = [run_step(code, path, corrections) for _ in range(max(1, args.repeat))]
             results[name] = min(runs, key=lambda r: r["seconds"])
     base = results["pandas.read_csv"]["seconds"]
-    print(f"{args.years:g}-year archive record, {truth['n_rows']:,} rows, eras 60/15/6 min")
-    print(f"{'step':<32} {'seconds':>8} {'x read_csv':>10} {'peak RSS MB':>12}")
+    print(f"{args.years:g}-year archive record, {n_rows:,} rows, eras 60/15/6 min, one BLAS thread")
+    print(f"{'step':<32} {'seconds':>8} {'CPU s':>8} {'x read_csv':>10} {'peak RSS MB':>12}")
     for name, res in results.items():
-        print(f"{name:<32} {res['seconds']:>8.2f} {res['seconds'] / base:>10.2f} {res['maxrss_mb']:>12.0f}")
+        print(f"{name:<32} {res['seconds']:>8.2f} {res['cpu_seconds']:>8.2f} {res['seconds'] / base:>10.2f} "
+              f"{res['maxrss_mb']:>12.0f}")
 
 
 if __name__ == "__main__":

@@ -5,8 +5,8 @@ UTC, a clock that drifted), the tide read on the stamps is the true tide delayed
 :math:`\sigma` shows the phase lag :math:`g + \sigma\tau` (METHODS sec. 14). :func:`timing_offsets` finds such
 spans:
 
-1. a compact tide model (the major constituents the record resolves, :func:`extremes.tide.harmonic.analyse_tide`)
-   is fitted to the clean record thinned to one sample an hour;
+1. a compact tide model (the major constituents the record resolves, with nodal corrections) is fitted by
+   least squares to the clean record thinned to one reading every three hours;
 2. the model's prediction is split by species (diurnal, semidiurnal, ...) into an in-phase part :math:`P_s`
    and a quadrature part :math:`Q_s` (the same constituents 90 degrees later), so the prediction delayed by
    :math:`\tau` is :math:`\sum_s P_s\cos(\bar\sigma_s\tau) + Q_s\sin(\bar\sigma_s\tau)` with
@@ -59,9 +59,13 @@ def empty_offsets() -> pd.DataFrame:
                          "statistic": np.array([], dtype=float)})
 
 
+#: the clock check reads the first valid sample of each bin of this many hours (8 a day resolve M2 and K1)
+THIN_HOURS = 3
+
+
 def _thin_hourly(valid: pd.Series) -> pd.Series:
-    """The first valid sample of each clock hour."""
-    bins = valid.index.as_unit("ns").asi8 // _HOUR_NS
+    """The first valid sample of each bin of :data:`THIN_HOURS` hours."""
+    bins = valid.index.as_unit("ns").asi8 // (THIN_HOURS * _HOUR_NS)
     keep = np.concatenate([[True], bins[1:] != bins[:-1]])
     return valid[keep]
 
@@ -77,11 +81,13 @@ class _CompactTide:
     and ``speeds`` the species' mean speeds [rad/minute].
     """
 
-    def __init__(self, series: pd.Series):
+    def __init__(self, series: pd.Series, *, keep: np.ndarray | None = None, cache=None):
+        """Fit to ``series`` (only the samples where ``keep``); ``cache`` reuses the basis of a previous fit
+        on the same series."""
         from extremes.tide.constituents import get_constituent, select_constituents
 
         span_hours = (series.index[-1] - series.index[0]) / pd.Timedelta(hours=1)
-        chosen = select_constituents(span_hours, sampling_hours=1.0)
+        chosen = select_constituents(span_hours, sampling_hours=float(THIN_HOURS))
         self.names = [n for n in MAJOR if n in chosen]
         if "M2" not in self.names:
             raise _NoTide
@@ -89,10 +95,12 @@ class _CompactTide:
         self.all_names = self.names + list(self.inferred)
         self.speed = np.array([get_constituent(n).speed_deg_per_hour for n in self.all_names])
         self._times = series.index
-        self._cache = self._phase_and_f(series.index)
-        c, s_ = self._design(*self._cache)
-        x = np.column_stack([np.ones(len(series)), c, s_])
-        coef = np.linalg.solve(x.T @ x, x.T @ series.to_numpy(dtype=float))  # normal equations
+        self._cache = cache if cache is not None else self._phase_and_f(series.index)
+        phase, f = self._cache
+        keep = np.ones(len(series), dtype=bool) if keep is None else keep
+        c, s_ = self._design(phase[keep], f[keep])
+        x = np.column_stack([np.ones(int(keep.sum())), c, s_])
+        coef = np.linalg.solve(x.T @ x, x.T @ series.to_numpy(dtype=float)[keep])  # normal equations
         m = len(self.names)
         a, b = coef[1:1 + m], coef[1 + m:]
         amp, phase = np.hypot(a, b), np.arctan2(b, a)
@@ -215,7 +223,7 @@ def _monthly_delays(series: pd.Series, model) -> tuple[pd.DataFrame, np.ndarray,
 
 
 def _spans_from_months(months: pd.DataFrame, *, min_offset: float) -> tuple[list, float, float]:
-    use = months[months["n"] >= 24 * 10]  # months with at least ten days of hourly samples
+    use = months[months["n"] >= 24 / THIN_HOURS * 10]  # months with at least ten days of samples
     if len(use) < 3:
         return [], 0.0, 0.0
     reference = float(np.median(use["delay"]))
@@ -266,12 +274,12 @@ def _locate(series, a, speeds, months, span, reference, valid, model) -> dict | 
 
 def _refine(valid: pd.Series, hourly: pd.DatetimeIndex, k: int, before: float, after: float, speeds,
             model) -> pd.Timestamp:
-    """The first full-resolution sample on delay ``after`` between hourly samples k-1 and k."""
+    """The first full-resolution sample on delay ``after`` between thinned samples k-2 and k+1."""
     if k <= 0:
         return valid.index[0]
     if k >= len(hourly):
         return valid.index[-1] + (valid.index[-1] - valid.index[-2])
-    lo, hi = hourly[k - 1], hourly[k]
+    lo, hi = hourly[max(k - 2, 0)], hourly[min(k + 1, len(hourly) - 1)]
     piece = valid[(valid.index >= lo) & (valid.index <= hi)]
     if len(piece) <= 2:
         return hi
@@ -355,7 +363,7 @@ def timing_offsets(level_m: pd.Series, *, eras: pd.DataFrame | None = None, min_
         for row in rows:
             outside &= ~((hourly.index >= row["start"]) & (hourly.index < row["end"]))
         try:
-            model = _CompactTide(hourly[outside])
+            model = _CompactTide(hourly, keep=outside, cache=model._cache)
         except (_NoTide, np.linalg.LinAlgError, ExtremesError):
             break
     if len(found):

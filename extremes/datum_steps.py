@@ -73,19 +73,18 @@ def monthly_means(level_m: pd.Series, *, eras: pd.DataFrame | None = None) -> pd
     weights = sampling.sample_intervals_ns(level_m.index, eras).astype(float)
     values = level_m.to_numpy(dtype=float)
     finite = np.isfinite(values)
-    naive = level_m.index.tz_convert("UTC").tz_localize(None)
-    month = naive.to_period("M")
-    frame = pd.DataFrame({"w": np.where(finite, weights, 0.0), "wy": np.where(finite, weights * values, 0.0)},
-                         index=month)
-    sums = frame.groupby(level=0).sum()
-    full = pd.period_range(sums.index.min(), sums.index.max(), freq="M")
-    sums = sums.reindex(full, fill_value=0.0)
-    starts = full.to_timestamp()
-    length = ((starts + pd.offsets.MonthBegin(1)) - starts).as_unit("ns").asi8.astype(float)
+    # calendar month of each sample as an integer (numpy months, no per-sample pandas objects)
+    month = level_m.index.tz_convert("UTC").tz_localize(None).to_numpy().astype("datetime64[M]").astype(np.int64)
+    first, last = int(month.min()), int(month.max())
+    w = np.bincount(month - first, weights=np.where(finite, weights, 0.0), minlength=last - first + 1)
+    wy = np.bincount(month - first, weights=np.where(finite, weights * np.where(finite, values, 0.0), 0.0),
+                     minlength=last - first + 1)
+    starts = pd.DatetimeIndex(np.arange(first, last + 2).astype("datetime64[M]").astype("datetime64[ns]"))
+    length = np.diff(starts.asi8).astype(float)
     with np.errstate(invalid="ignore", divide="ignore"):
-        mean = sums["wy"].to_numpy() / sums["w"].to_numpy()
-    return pd.DataFrame({"mean_m": mean, "coverage": np.minimum(1.0, sums["w"].to_numpy() / length)},
-                        index=starts.tz_localize("UTC"))
+        mean = wy / w
+    return pd.DataFrame({"mean_m": mean, "coverage": np.minimum(1.0, w / length)},
+                        index=starts[:-1].tz_localize("UTC"))
 
 
 def _lag1(values: np.ndarray, consecutive: np.ndarray) -> float:

@@ -514,10 +514,19 @@ def _spikes(work: np.ndarray, interval, k: float, hours: float, *, times) -> tup
     # surge rising or turning within the window) the local spread of the deviations sets the scale, so a
     # fast but smooth change is not taken for a spike
     magnitude = np.abs(deviation - centre)
-    local = _MAD_TO_SIGMA * pd.Series(magnitude).rolling(2 * half + 1, center=True,
-                                                        min_periods=half + 1).median().to_numpy()
     with np.errstate(invalid="ignore"):
-        spikes = magnitude > k * np.fmax(scale, local)
+        spikes = magnitude > k * scale
+    where = np.flatnonzero(spikes)
+    if where.size:  # the local spread, only where the record-wide test fires
+        offsets = np.arange(-half, half + 1)
+        idx = where[:, None] + offsets[None, :]
+        window = np.where((idx >= 0) & (idx < magnitude.size), magnitude[np.clip(idx, 0, magnitude.size - 1)],
+                          np.nan)
+        enough = np.isfinite(window).sum(axis=1) >= half + 1
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", RuntimeWarning)  # all-NaN windows: not enough neighbours
+            local = _MAD_TO_SIGMA * np.nanmedian(window, axis=1)
+        spikes[where[enough & (magnitude[where] <= k * local)]] = False
     return spikes & ok, float(scale)
 
 
