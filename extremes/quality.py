@@ -21,7 +21,8 @@ that applies wins, so the counts add up to the rows read):
    the half window after (``spike_window_hours`` = 1 h in all, at least 3 samples each side, so the tide is
    followed without lag and a sample never predicts itself; flat lines are taken out first), :math:`\hat\sigma = 1.4826` times the median
    absolute deviation of :math:`x - \tilde{x}` over the record (over each sampling era) or, where larger, over
-   the window around the sample (a storm surge rising fast is not a spike), and ``spike_k`` :math:`k=5` [1]_. On the raw level this catches isolated bad readings; once the tide is known,
+   the window around the sample (a storm surge rising fast is not a spike), and ``spike_k`` :math:`k=5` [1]_;
+   a deviation under 5 cm is never a spike (about five times a gauge's accuracy, common practice). On the raw level this catches isolated bad readings; once the tide is known,
    :meth:`QualityReport.with_residual_spikes` applies the same test to the non-tidal residual;
 8. ``ok``.
 

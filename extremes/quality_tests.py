@@ -18,6 +18,10 @@ logger = logging.getLogger(__name__)
 #: consistency constant of the median absolute deviation for Gaussian data [CP]
 MAD_TO_SIGMA = 1.4826
 _MAD_TO_SIGMA = MAD_TO_SIGMA
+#: a reading within this of its neighbours' running median is never a spike: on smooth fine-sampled records
+#: the robust scale falls to millimetres and k times it to the gauge's own accuracy (about a centimetre;
+#: common practice) [m]
+SPIKE_FLOOR_M = 0.05
 
 
 def _sorted_unique(values: np.ndarray) -> np.ndarray:
@@ -63,7 +67,7 @@ def _spikes(work: np.ndarray, interval, k: float, hours: float, *, times) -> tup
     # fast but smooth change is not taken for a spike
     magnitude = np.abs(deviation - centre)
     with np.errstate(invalid="ignore"):
-        spikes = magnitude > k * scale
+        spikes = magnitude > max(k * scale, SPIKE_FLOOR_M)
     where = np.flatnonzero(spikes)
     if where.size:  # the local spread, only where the record-wide test fires
         offsets = np.arange(-half, half + 1)

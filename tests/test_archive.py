@@ -99,9 +99,9 @@ def test_corrected_study_gives_the_true_levels(corrected, true_100_m, archive):
     assert row["lower_m"] <= true_100_m <= row["upper_m"]
     assert row["level_m"] == pytest.approx(true_100_m, abs=0.3)
     assert document["assessment"]["status"] in ("ok", "check")
-    # the residual spike test flags the planted spikes and at most a handful of good readings (of 410,000)
+    # the residual spike test flags the planted spikes and no good reading (of 410,000)
     spikes = document["record"]["flags"]["spike"]
-    assert len(truth["spikes"]) <= spikes <= len(truth["spikes"]) + 5
+    assert spikes == len(truth["spikes"])
     assert output.startswith("assessment:")
 
 
@@ -122,3 +122,17 @@ def test_storm_kept_in_the_annual_maxima(corrected, archive):
     maxima = pd.read_csv(folder / "corrected" / "tables" / "annual_maxima.csv")
     top = maxima.loc[maxima["level_m"].idxmax()]
     assert int(top["year"]) == pd.Timestamp(truth["storm"]["peak"]).year
+
+
+def test_example_faults_record_loses_no_good_reading():
+    # example_records/truth.json lists the spikes planted in the 3-year faults record: quality control (raw
+    # level, then the residual) flags exactly those, and no storm reading
+    from extremes.study import run_study
+    from extremes.study_options import StudyOptions
+
+    truth = json.loads((example_records_folder() / "truth.json").read_text())
+    planted = {s["time"][:16] for s in truth["records"]["harbour_faults.csv"]["faults"]["spikes"]}
+    result = run_study(example_records_folder() / "harbour_faults.csv", reader={"missing": [-99]},
+                       options=StudyOptions(resamples=20))
+    found = {t.strftime("%Y-%m-%dT%H:%M") for t in result.quality.positions("spike", 100)["time"]}
+    assert found == planted
