@@ -193,7 +193,11 @@ def pair_overlap(site_skew, reference_skew, *, max_lag_hours: float = MAX_LAG_HO
         raise DataError(f"site and reference records overlap by fewer than {MIN_PAIRS} tides with skew surges "
                         f"at every lag within +/-{max_lag_hours:g} h; a transfer needs a common period "
                         "(a year or more)")
-    best = scan.loc[scan["correlation"].idxmax()]
+    # lags that pair the same tides tie: take the middle of the run of lags with the highest correlation
+    top = scan["correlation"].max()
+    tied = scan.index[scan["correlation"] >= top - 1e-12]
+    run = tied[tied - tied[0] == np.arange(tied.size)] if tied.size else tied
+    best = scan.loc[run[(run.size - 1) // 2]]
     notes = []
     if abs(best["lag_hours"]) >= max_lag_hours:
         notes.append(f"the best lag ({best['lag_hours']:g} h) lies at the edge of the lag window; the storms "

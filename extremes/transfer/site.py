@@ -134,14 +134,13 @@ def _site_high_waters(site_model, start, end):
     return highs[(highs >= start) & (highs <= end)]
 
 
-def _resampled_levels(high_waters, source, year_of, relations, central, *, seed, periods):
+def _resampled_levels(high_waters, source, year_of, relations, central, *, quantile, seed, periods):
     """Levels (B, P) of the resamples: new relation and noise on a redraw of whole reference years."""
     from extremes.joint import skew_surge_joint_probability
 
     rng = np.random.default_rng(seed + 1)
     members = [np.flatnonzero(year_of == y) for y in range(int(year_of.max()) + 1)]
     shift = central.curve.level_m - central.curve_unclustered.level_m  # extremal index held
-    n = source.size
     start = pd.Timestamp("2001-01-01", tz="UTC")
     step = pd.Timedelta(hours=12.4206)
     out = np.full((len(relations), periods.size), np.nan)
@@ -154,13 +153,12 @@ def _resampled_levels(high_waters, source, year_of, relations, central, *, seed,
         try:
             with warnings.catch_warnings():
                 warnings.simplefilter("ignore", ExtremesWarning)
-                res = skew_surge_joint_probability(high_waters, series, threshold_m=central.threshold_m,
+                res = skew_surge_joint_probability(high_waters, series, threshold_quantile=quantile,
                                                    clustering="none", n_bootstrap=0, periods_years=periods,
                                                    high_water_years=central.diagnostics.get("high_water_years"))
         except ExtremesError:
             continue
         out[b] = res.curve.level_m + shift
-    del n
     return out
 
 
@@ -229,13 +227,16 @@ def reference_joint_probability(site_skew, high_waters, reference, *, site_model
     periods = joint.curve.periods_years
     lower = upper = np.full(periods.shape, np.nan)
     n_used = 0
-    if n_bootstrap:
+    if n_bootstrap and supported:
         t_pairs = pd.DatetimeIndex(pairs["site_time"]).as_unit("ns").asi8
         relations = resample_relations(pairs["site_skew_surge_m"].to_numpy(),
                                        pairs["reference_skew_surge_m"].to_numpy(), block_ids(t_pairs),
                                        n_resamples=n_bootstrap, rng=np.random.default_rng(seed + 2))
         year_of = np.unique(np.asarray(synthetic.index.year), return_inverse=True)[1]
-        levels = _resampled_levels(high_waters, source, year_of, relations, joint, seed=seed, periods=periods)
+        # the tail threshold is held as a quantile: a resampled relation moves every value
+        quantile = float(np.mean(synthetic.to_numpy() <= joint.threshold_m))
+        levels = _resampled_levels(high_waters, source, year_of, relations, joint, quantile=quantile, seed=seed,
+                                   periods=periods)
         n_used = int(np.sum(np.isfinite(levels[:, 0])))
         alpha = (1 - confidence) / 2
         if n_used >= max(10, n_bootstrap // 2):
@@ -251,11 +252,11 @@ def reference_joint_probability(site_skew, high_waters, reference, *, site_model
         "storm sequences)",
     ] + list(overlap.notes) + list(reference.notes)
     if not supported:
-        notes.append("transfer not supported: " + "; ".join(f.reason for f in findings
-                                                           if f.severity == "unreliable"))
+        notes.append("transfer not supported, so no interval computed: " + "; ".join(
+            f.reason for f in findings if f.severity == "unreliable"))
     interval = (f"percentile bootstrap ({n_used} resamples): blocks of {10:g} days of overlap pairs (the "
                 "relation) and whole years of the reference record (its tail) redrawn together, noise redrawn; "
-                "tail threshold and extremal index held")
+                "tail threshold (as a quantile) and extremal index held")
     curve = replace(joint.curve, method=METHOD, lower_m=lower, upper_m=upper, interval_method=interval,
                     notes=tuple(notes) + tuple(joint.curve.notes))
     diagnostics = {"seconds": time.perf_counter() - t0, "bootstrap_resamples_used": n_used,
