@@ -79,3 +79,15 @@ def test_unrelated_site_is_refused_with_the_correlation_as_reason(related):
     assert [f.check for f in refused] == ["skew-surge correlation"]
     assert "transfer refused" in refused[0].reason
     assert np.all(np.isnan(result.curve.upper_m))  # no interval for a refused transfer
+
+
+def test_overlap_figure_is_a_png(related):
+    from extremes.transfer.figure import overlap_figure_png
+
+    pair, reference = related
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", ExtremesWarning)
+        result = reference_joint_probability(reference=reference, n_bootstrap=0, seed=5,
+                                             **site_inputs(pair.site_m, reference))
+    png = overlap_figure_png(result, dpi=40)
+    assert png[:8] == b"\x89PNG\r\n\x1a\n" and len(png) > 2000
