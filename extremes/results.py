@@ -16,9 +16,10 @@ folder atomically:
     tables/sea_level_rise_by_offset.csv  per offset: raised 100-year level, its present return period,
                                   encounter probability over the design life, design level
     tables/quality_flags.csv      counts of each flag
+    tables/reference_overlap.csv  with a reference gauge: site and reference skew surges paired tide by tide
     models/tide_model.json        the saved tide model (predicts at any time)
     models/curves.json            every method's return-level curve (what ``extremes rerun`` reuses)
-    figures/*.png                 the report's figures
+    figures/*.png                 the report's figures (with a reference gauge: reference_overlap.png)
     report.html                   one self-contained report
     report.pdf                    the same report for printing and filing (A4)
 """
@@ -77,6 +78,8 @@ class StudyResult:
         Seconds spent in each stage. [s]
     record_years : float
         Valid data after quality control. [years]
+    reference : ReferenceGauge or None
+        The long gauge whose storm climate was carried to the site (:mod:`extremes.transfer`).
     """
 
     software: dict
@@ -94,6 +97,7 @@ class StudyResult:
     warnings: tuple = ()
     timings_s: dict = field(default_factory=dict)
     record_years: float = float("nan")
+    reference: object = None
 
     quality = _from_tide("quality", "Quality report of the record (spikes re-detected on the residual).")
     annual_msl = _from_tide("annual_msl", "Annual mean sea level. [m]")
@@ -141,7 +145,9 @@ class StudyResult:
         document = {
             "schema": SCHEMA,
             "software": self.software,
-            "inputs": {"record": self.source, "sha256": self.sha256, "options": self.options},
+            "inputs": {"record": self.source, "sha256": self.sha256, "options": self.options,
+                       **({} if self.reference is None else
+                          {"reference": {"record": self.reference.source, "sha256": self.reference.sha256}})},
             "record": self.quality.to_dict(),
             "tide": self.tide.tide_dict(),
             "mean_sea_level": self.tide.mean_sea_level_dict(),
@@ -211,6 +217,9 @@ def study_tables(result: StudyResult) -> dict[str, pd.DataFrame]:
             tables[name] = sample.rename("level_m").rename_axis(sample.index.name or "time").reset_index()
         elif isinstance(sample, pd.DataFrame):
             tables[name] = sample.reset_index()
+    from extremes.transfer.stage import study_tables as transfer_tables
+
+    tables.update(transfer_tables(result))
     return tables
 
 
@@ -254,6 +263,11 @@ def write_study(result: StudyResult, out_dir, *, overwrite: bool = False, figure
             from extremes.report.study_report import build_study_report
 
             build_study_report(result, document).write(work)
+            from extremes.transfer.stage import study_figures as transfer_figures
+
+            for name, png in transfer_figures(result).items():  # the overlap of a reference-gauge transfer
+                (work / "figures").mkdir(exist_ok=True)
+                (work / "figures" / f"{name}.png").write_bytes(png)
         (work / "results.json").write_text(dumps(document), encoding="utf-8")
     return out_dir
 

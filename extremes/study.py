@@ -75,7 +75,8 @@ class _Stages:
 
 
 def run_study(record_path, *, reader: dict | None = None, options: StudyOptions | None = None,
-              progress: Callable[[str], None] | None = None, hourly_check: bool = True):
+              progress: Callable[[str], None] | None = None, hourly_check: bool = True, reference=None,
+              reference_reader: dict | None = None):
     """Run the whole study on the record in file ``record_path``.
 
     Parameters
@@ -90,6 +91,11 @@ def run_study(record_path, *, reader: dict | None = None, options: StudyOptions 
         Called with the name of each stage as it starts.
     hourly_check : bool, keyword-only
         Run the hourly joint-probability comparison method (False: left out, as for model points).
+    reference : path-like, pandas.Series or ReferenceGauge, optional
+        A long gauge sharing the site's storm climate (:mod:`extremes.transfer`), read with
+        ``reference_reader`` (default: ``reader``).
+    reference_reader : dict, optional
+        Reader options of the reference file.
 
     Returns
     -------
@@ -108,13 +114,18 @@ def run_study(record_path, *, reader: dict | None = None, options: StudyOptions 
     stages.start("read")
     reader = {k: v for k, v in (reader or {}).items() if v is not None}
     record = records.read_record(record_path, **reader)
+    if reference is not None:
+        from extremes.transfer.stage import load_reference
+
+        stages.start("reference gauge")
+        reference = load_reference(reference, reader=reader if reference_reader is None else reference_reader)
     return run_study_record(record, options=options, progress=progress, reader=reader, _stages=stages,
-                            hourly_check=hourly_check)
+                            hourly_check=hourly_check, reference=reference)
 
 
 def run_study_series(level_m: pd.Series, *, datum: str = "unspecified", source: str = "<series>",
                      options: StudyOptions | None = None, progress: Callable[[str], None] | None = None,
-                     hourly_check: bool = True):
+                     hourly_check: bool = True, reference=None):
     """Run the whole study on an in-memory series (e.g. one point of a gridded model output).
 
     Parameters
@@ -125,6 +136,8 @@ def run_study_series(level_m: pd.Series, *, datum: str = "unspecified", source: 
         Vertical datum of the levels.
     source : str
         A name for the series, recorded as its source.
+    reference : ReferenceGauge, optional
+        A prepared long gauge for a short site (:func:`extremes.transfer.stage.load_reference`).
     """
     from extremes.records import GaugeRecord
 
@@ -144,7 +157,8 @@ def run_study_series(level_m: pd.Series, *, datum: str = "unspecified", source: 
                             + series.index.asi8.tobytes()).hexdigest()
     record = GaugeRecord(water_level_m=series, datum=datum, source=source, sha256=digest,
                          interval=interval, meta={"format": "in-memory series"})
-    return run_study_record(record, options=options, progress=progress, hourly_check=hourly_check)
+    return run_study_record(record, options=options, progress=progress, hourly_check=hourly_check,
+                            reference=reference)
 
 
 def _excluded_readings_note(record, qc) -> str | None:
@@ -176,7 +190,7 @@ def _valid_record_years(record, qc) -> float:
 
 def run_study_record(record, *, options: StudyOptions | None = None,
                      progress: Callable[[str], None] | None = None, reader: dict | None = None,
-                     _stages: _Stages | None = None, hourly_check: bool = True):
+                     _stages: _Stages | None = None, hourly_check: bool = True, reference=None):
     """Run the study on a :class:`extremes.records.GaugeRecord` already read (``hourly_check``: see
     :func:`run_study`).
 
@@ -184,7 +198,9 @@ def run_study_record(record, *, options: StudyOptions | None = None,
     :func:`extremes.tide.stage.analyse_record_tide`, the direct methods
     (:mod:`extremes.joint.direct` over :func:`extremes.extremal.sample_fit.fit_sample`), the joint methods
     (:mod:`extremes.joint`), :func:`extremes.joint.compare_methods` and
-    :func:`extremes.sealevel.stage.assess_sea_level_rise`.
+    :func:`extremes.sealevel.stage.assess_sea_level_rise`. With a prepared ``reference`` gauge
+    (:func:`extremes.transfer.stage.load_reference`), the reference-gauge transfer too
+    (:mod:`extremes.transfer.stage`).
     """
     from extremes import joint, quality, sealevel
     from extremes import season as season_rules
@@ -192,6 +208,7 @@ def run_study_record(record, *, options: StudyOptions | None = None,
     from extremes.results import StudyResult
     from extremes.sealevel import assess_sea_level_rise
     from extremes.tide.stage import analyse_record_tide
+    from extremes.transfer import stage as transfer_stage
 
     options = options or StudyOptions()
     # a bad scenario file fails now, not after the fits
@@ -207,7 +224,8 @@ def run_study_record(record, *, options: StudyOptions | None = None,
         notes += [excluded] if excluded else []
         record_years = _valid_record_years(record, qc)
 
-        tide = analyse_record_tide(qc, epoch_year=options.epoch_year, on_stage=stages.start)
+        tide = analyse_record_tide(qc, epoch_year=options.epoch_year, on_stage=stages.start,
+                                   infer=transfer_stage.tide_inference(reference))
         notes += list(tide.notes)
         common = dict(datum=record.datum, epoch_year=tide.epoch_year)
 
@@ -226,8 +244,14 @@ def run_study_record(record, *, options: StudyOptions | None = None,
             _classic_method(joint, tide, options, common, curves, method_details, notes)
         else:
             notes.append("joint-probability (hourly) left out: a comparison method, skipped for model points")
+        if reference is not None:
+            stages.start("reference transfer")
+            transferred = transfer_stage.transfer_stage(tide, reference, options=options, datum=record.datum)
+            curves[transferred.method], method_details[transferred.method] = transferred.curve, transferred
         comparison = joint.compare_methods(curves, record_years=record_years, interaction=tide.interaction,
                                            stratified=stratified, periods_years=options.periods_years)
+        if reference is not None:
+            comparison = transfer_stage.recommend_with_transfer(comparison, transferred, record_years=record_years)
 
         stages.start("sea-level rise")
         slr = assess_sea_level_rise(curves[comparison.recommended_method], offsets_m=options.slr_m,
@@ -249,7 +273,7 @@ def run_study_record(record, *, options: StudyOptions | None = None,
         source=str(record.source), sha256=record.sha256, options=options_record, record=record, tide=tide,
         curves=curves, method_details=method_details, comparison=comparison, sea_level_rise=slr,
         cautions=tuple(cautions), notes=tuple(notes), warnings=tuple(dict.fromkeys(caught)),
-        timings_s=dict(stages.seconds), record_years=record_years,
+        timings_s=dict(stages.seconds), record_years=record_years, reference=reference,
     )
 
 
@@ -259,7 +283,10 @@ def _direct_methods(joint, level_epoch, options, common, notes, season_months=No
 
     curves, details = {}, {}
     years = dict(min_coverage=options.min_year_coverage, season_months=season_months)  # storm-season rule too
-    complete_years = int(samples.annual_maxima(level_epoch, **years).maxima.size)
+    try:
+        complete_years = int(samples.annual_maxima(level_epoch, **years).maxima.size)
+    except DataError:  # no calendar year complete enough (a year's record across two calendar years)
+        complete_years = 0
     enough_years = complete_years >= MIN_ANNUAL_MAXIMA
     if not enough_years:
         notes.append(f"annual-maxima and r-largest not fitted: {complete_years} complete years; a GEV fit needs "

@@ -1,6 +1,6 @@
 """Options of a study, from command-line flags or a TOML study file.
 
-A study file is plain TOML with up to three tables, all optional::
+A study file is plain TOML with up to four tables, all optional::
 
     [record]                      # how to read the record (the reader options of every command)
     units = "cm"
@@ -22,6 +22,10 @@ A study file is plain TOML with up to three tables, all optional::
     scenarios = "rise_scenarios.csv"   # relative to the study file
     design_life_years = 50
     accepted_risk = 0.1
+
+    [reference]                   # a long gauge nearby, for a site with a short record (extremes.transfer)
+    record = "long_gauge.csv"     # relative to the study file; --reference on the command line wins
+    units = "cm"                  # reader options of the reference; none given: the site's
 
 Flags given on the command line override the file. Every option, defaulted or given, is recorded in the
 results so that a reviewer can rerun the study.
@@ -158,9 +162,10 @@ def load_study_file(path: str | Path) -> tuple[StudyOptions, dict]:
         raise DataError(f"{path}: cannot read study file ({err})") from None
     except tomllib.TOMLDecodeError as err:
         raise DataError(f"{path}: not valid TOML ({err})") from None
-    unknown = set(data) - {"record", "study", "sea_level_rise"}
+    unknown = set(data) - {"record", "study", "sea_level_rise", "reference"}  # [reference]: extremes.transfer.stage
     if unknown:
-        raise DataError(f"{path}: unknown table(s) {sorted(unknown)}; expected record, study, sea_level_rise")
+        raise DataError(f"{path}: unknown table(s) {sorted(unknown)}; expected record, study, sea_level_rise, "
+                        "reference")
     fields = {f.name for f in dataclasses.fields(StudyOptions)}
     study_keys = fields - {"slr_m", "slr_scenarios", "design_life_years", "accepted_risk"}
     kwargs: dict = {}

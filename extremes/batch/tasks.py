@@ -65,14 +65,15 @@ def completed_results(station_dir: str | os.PathLike) -> dict | None:
 
 
 def study_station(station: Station, *, options, seed: int, out_dir: Path, overwrite: bool = False,
-                  figures: bool = True, hourly_check: bool = True, tables: bool = True) -> dict:
+                  figures: bool = True, hourly_check: bool = True, tables: bool = True, reference=None) -> dict:
     """The full study of one station, written to ``out_dir``; returns its ``results.json`` mapping.
 
     Runs :func:`extremes.study.run_study` (a file) or :func:`extremes.study.run_study_series` (an
     in-memory series) with ``options`` whose seed is replaced by ``seed``, then
     :func:`extremes.results.write_study` (with the figures and HTML report unless ``figures=False``).
     ``hourly_check=False`` leaves out the hourly joint-probability comparison method; ``tables=False`` the
-    CSV tables.
+    CSV tables; ``reference``: one prepared long gauge (:func:`extremes.transfer.stage.load_reference`)
+    serving every station.
     """
     from extremes import results as results_module
     from extremes import study as study_module
@@ -81,6 +82,8 @@ def study_station(station: Station, *, options, seed: int, out_dir: Path, overwr
         options = study_module.StudyOptions()
     options = dataclasses.replace(options, seed=int(seed))
     extra = {} if hourly_check else {"hourly_check": False}
+    if reference is not None:
+        extra["reference"] = reference
     if station.level_m is not None:
         result = study_module.run_study_series(station.level_m, datum=station.datum, source=station.source,
                                                options=options, **extra)

@@ -1,6 +1,7 @@
 """``extremes batch``: one study per record (or per point of a gridded model output) on dask."""
 from __future__ import annotations
 
+import functools
 import json
 import sys
 from pathlib import Path
@@ -31,13 +32,16 @@ from extremes.cli import options
 @click.option("--model-points", "model_points", is_flag=True,
               help="Model-point mode: no hourly check method, no per-station figures or report; the same "
                    "recommended levels, several times faster (for gridded model output).")
+@click.option("--reference", type=click.Path(path_type=Path), metavar="RECORD",
+              help="One long gauge serving every station with a short record (read once, with the reader "
+                   "options or those of the study file's [reference] table).")
 @options.overwrite_option
 @click.option("--progress/--no-progress", "show_progress", default=None,
               help="Show a progress bar on stderr (default: only on a terminal).")
 @options.json_option
 @click.pass_context
 def command(ctx, records, out_dir, manifest, gridded, block_size, reader, config, study, scheduler, workers,
-            figures, model_points, overwrite, show_progress, as_json):
+            figures, model_points, reference, overwrite, show_progress, as_json):
     """Run the whole study on every RECORD (files or glob patterns), on every record of a --manifest and on
     every point of --gridded model output, one dask task per record (per block of points), and write one
     folder per station under --out with a summary of all (summary.csv, summary.nc and the page
@@ -56,6 +60,14 @@ def command(ctx, records, out_dir, manifest, gridded, block_size, reader, config
         raise click.UsageError("--workers sizes the local cluster; it cannot be used with --scheduler")
     # flags win over the study file (--config), whose [record] table supplies reader defaults
     study_options, merged_reader = options.resolve_study_options(config, study, reader)
+    from extremes.transfer.stage import load_reference, resolve_reference
+
+    reference, reference_reader = resolve_reference(reference, config, merged_reader)
+    if model_points and reference is not None:
+        raise click.UsageError("a reference gauge serves gauges with short records; it cannot be used with "
+                               "--model-points")
+    # one long gauge, read and de-tided once, serves every station
+    gauge = None if reference is None else load_reference(reference, reader=reference_reader)
 
     stations: list = []
     if records:
@@ -77,9 +89,10 @@ def command(ctx, records, out_dir, manifest, gridded, block_size, reader, config
 
     settings = batch.BatchSettings(mode="points" if model_points else "full", figures=figures, scheduler=scheduler,
                                    workers=workers, overwrite=overwrite, errors="ignore")
+    per_station = None if gauge is None else functools.partial(settings.default_study(), reference=gauge)
     try:
         summary = batch.run_batch(stations, out_dir=out_dir, options=study_options, settings=settings,
-                                  progress=progress)
+                                  progress=progress, study=per_station)
     finally:
         bar.close()
 

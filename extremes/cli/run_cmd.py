@@ -23,7 +23,7 @@ def progress_printer(enabled: bool):
 
 
 def run_and_write(record: Path, *, reader: dict, study_options, out_dir: Path, overwrite: bool,
-                  show_progress: bool, figures: bool = True):
+                  show_progress: bool, figures: bool = True, reference=None, reference_reader=None):
     """Run the study on ``record`` and write it to ``out_dir``; return the StudyResult."""
     from extremes.outputs import check_output_folder
     from extremes.results import write_study
@@ -31,7 +31,8 @@ def run_and_write(record: Path, *, reader: dict, study_options, out_dir: Path, o
 
     check_output_folder(out_dir, overwrite=overwrite)  # refuse at once, before any long computation
     progress = progress_printer(show_progress)
-    result = run_study(record, reader=reader, options=study_options, progress=progress)
+    result = run_study(record, reader=reader, options=study_options, progress=progress, reference=reference,
+                       reference_reader=reference_reader)
     write_study(result, out_dir, overwrite=overwrite, figures=figures, progress=progress)
     return result
 
@@ -70,15 +71,22 @@ def summary_text(result, out_dir: Path) -> str:
               help="Draw the figures and the HTML and PDF report (--no-figures: numbers and tables only).")
 @click.option("--progress/--no-progress", "show_progress", default=None,
               help="Show each stage on stderr (default: only on a terminal).")
+@click.option("--reference", type=click.Path(path_type=Path), metavar="RECORD",
+              help="A long gauge nearby sharing the site's storms, for a site with a short record; read with the "
+                   "same reader options, or those of the study file's [reference] table.")
 @options.overwrite_option
-def command(record, reader, out_dir, config, study, figures, show_progress, overwrite):
+def command(record, reader, out_dir, config, study, figures, show_progress, reference, overwrite):
     """Run the whole study on RECORD and write DIR/results.json, tables, models, figures and report.html.
 
     Example:  extremes run gauge.csv --units cm --missing -99 --datum "chart datum" --out study --slr 0.5,1
     """
     study_options, merged_reader = options.resolve_study_options(config, study, reader)
+    from extremes.transfer.stage import resolve_reference
+
+    reference, reference_reader = resolve_reference(reference, config, merged_reader)
     if show_progress is None:
         show_progress = sys.stderr.isatty()
     result = run_and_write(record, reader=merged_reader, study_options=study_options, out_dir=out_dir,
-                           overwrite=overwrite, show_progress=show_progress, figures=figures)
+                           overwrite=overwrite, show_progress=show_progress, figures=figures, reference=reference,
+                           reference_reader=reference_reader)
     click.echo(summary_text(result, out_dir))

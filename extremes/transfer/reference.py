@@ -6,13 +6,15 @@ transfer needs is kept: its skew surges, tide model, trend and interaction tests
 """
 from __future__ import annotations
 
+import dataclasses
 import hashlib
+import warnings
 from dataclasses import dataclass, field
 
 import numpy as np
 import pandas as pd
 
-from extremes.errors import DataError, ExtremesError
+from extremes.errors import DataError, ExtremesError, ExtremesWarning
 
 __all__ = ["ReferenceGauge", "prepare_reference", "record_from_series", "inference_from_reference",
            "INFERENCE_PAIRS"]
@@ -117,13 +119,21 @@ def prepare_reference(record, *, min_years: float = MIN_REFERENCE_YEARS) -> Refe
     DataError
         If the reference is shorter than ``min_years`` or yields no skew surges.
     """
+    if isinstance(record, pd.Series):
+        record = record_from_series(record, source="<reference series>",
+                                    datum=str(record.attrs.get("datum", "unspecified")))
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always", ExtremesWarning)
+        gauge = _prepare(record, min_years)
+    said = [f"reference: {w.message}" for w in caught if issubclass(w.category, ExtremesWarning)]
+    return dataclasses.replace(gauge, notes=gauge.notes + tuple(dict.fromkeys(said)))
+
+
+def _prepare(record, min_years):
     from extremes import quality, surge
     from extremes.tide import datums as tide_datums
     from extremes.tide.harmonic import analyse_tide
 
-    if isinstance(record, pd.Series):
-        record = record_from_series(record, source="<reference series>",
-                                    datum=str(record.attrs.get("datum", "unspecified")))
     notes = []
     qc = quality.check_record(record)
     level = qc.level_m
