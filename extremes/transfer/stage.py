@@ -25,6 +25,9 @@ from extremes.transfer.site import METHOD, reference_joint_probability
 __all__ = ["load_reference", "tide_inference", "transfer_stage", "recommend_with_transfer", "reference_table",
            "study_findings", "METHOD"]
 
+#: most resamples of the transfer's intervals (each refits the surge tail of a new synthetic record) [-]
+MAX_TRANSFER_RESAMPLES = 250
+
 _READER_KEYS = {"time_columns", "time_column", "level_column", "time_format", "units", "missing", "utc_offset",
                 "datum", "decimal", "variable"}
 
@@ -48,10 +51,12 @@ def tide_inference(reference: ReferenceGauge | None):
 
 
 def transfer_stage(tide, reference: ReferenceGauge, *, options, datum: str):
-    """The transferred levels at the site from its tide stage (:class:`extremes.tide.stage.TideStage`)."""
+    """The transferred levels at the site from its tide stage (:class:`extremes.tide.stage.TideStage`), with
+    at most :data:`MAX_TRANSFER_RESAMPLES` resamples (the interval method states the number used)."""
     return reference_joint_probability(
         tide.skew_surges, tide.high_water_series, reference, site_model=tide.tide_model,
-        site_interaction=tide.interaction, n_bootstrap=options.resamples, confidence=options.confidence,
+        site_interaction=tide.interaction, n_bootstrap=min(options.resamples, MAX_TRANSFER_RESAMPLES),
+        confidence=options.confidence,
         seed=options.seed, datum=datum, epoch_year=tide.epoch_year)
 
 
