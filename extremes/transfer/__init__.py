@@ -14,8 +14,7 @@
 """
 from extremes.transfer.checks import Finding, short_record_findings, transfer_checks, worst_severity
 from extremes.transfer.pairing import OverlapPairs, match_skew_surges, pair_overlap
-from extremes.transfer.reference import (ReferenceGauge, inference_from_reference, prepare_reference,
-                                         record_from_series)
+from extremes.transfer.reference import ReferenceGauge, inference_from_reference, prepare_reference, record_from_series
 from extremes.transfer.relation import SkewSurgeRelation, fit_relation
 from extremes.transfer.site import METHOD, ReferenceTransferResult, reference_joint_probability
 

@@ -30,9 +30,9 @@ import pandas as pd
 
 from extremes.errors import DataError, ExtremesError, ExtremesWarning
 from extremes.jsonable import to_jsonable
-from extremes.transfer.checks import Finding, transfer_checks, worst_severity
+from extremes.transfer.checks import transfer_checks, worst_severity
 from extremes.transfer.pairing import OverlapPairs, nearest_indices, pair_overlap
-from extremes.transfer.relation import SkewSurgeRelation, block_ids, fit_relation, resample_relations
+from extremes.transfer.relation import BLOCK_DAYS, SkewSurgeRelation, block_ids, fit_relation, resample_relations
 
 __all__ = ["METHOD", "ReferenceTransferResult", "reference_joint_probability", "synthetic_site_record"]
 
@@ -92,6 +92,7 @@ class ReferenceTransferResult:
         """JSON-ready dictionary (the pairs go to a table of their own)."""
         joint = self.joint.to_dict()
         joint.pop("curve", None)
+        joint.pop("curve_unclustered", None)
         return to_jsonable({
             "method": self.method, "supported": self.supported, "verdict": self.verdict,
             "findings": [f.to_dict() for f in self.findings], "reference": self.reference,
@@ -254,7 +255,7 @@ def reference_joint_probability(site_skew, high_waters, reference, *, site_model
     if not supported:
         notes.append("transfer not supported, so no interval computed: " + "; ".join(
             f.reason for f in findings if f.severity == "unreliable"))
-    interval = (f"percentile bootstrap ({n_used} resamples): blocks of {10:g} days of overlap pairs (the "
+    interval = (f"percentile bootstrap ({n_used} resamples): blocks of {BLOCK_DAYS:g} days of overlap pairs (the "
                 "relation) and whole years of the reference record (its tail) redrawn together, noise redrawn; "
                 "tail threshold (as a quantile) and extremal index held")
     curve = replace(joint.curve, method=METHOD, lower_m=lower, upper_m=upper, interval_method=interval,

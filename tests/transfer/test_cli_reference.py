@@ -10,6 +10,8 @@ from click.testing import CliRunner
 from extremes.cli import cli
 from extremes.transfer.simulate import simulate_gauge_pair
 
+pytestmark = pytest.mark.slow  # simulations of 12-30 years and whole studies
+
 
 @pytest.fixture(scope="module")
 def gauges(tmp_path_factory):

@@ -38,6 +38,9 @@ def site_inputs(level, reference):
     return dict(site_skew=skew, high_waters=high_waters, site_model=model, site_interaction=interaction)
 
 
+pytestmark = pytest.mark.slow  # simulations of 12-30 years and whole studies
+
+
 @pytest.fixture(scope="module")
 def related():
     pair = simulate_gauge_pair(reference_years=30.0, site_years=2.0, seed=3)
