@@ -32,7 +32,13 @@ than a published number, "project rule" a choice of this package):
 ``record-length``
     A direct method (annual maxima, peaks over threshold, r-largest) recommended for a 100-year level from
     fewer than 25 years: extrapolating beyond about four times the record length is unsafe (common
-    practice, from memory) -> ``check``; any method from fewer than 10 years -> ``check``.
+    practice, from memory) -> ``check``; any method from fewer than 10 years -> ``check`` (a supported
+    reference-gauge transfer rests on the reference's years and is judged by ``short-record`` instead).
+``short-record``
+    A record under 10 years: the recommended method's levels beyond twice the record length -> ``check``,
+    beyond five times -> ``unreliable``, however narrow their interval; with a reference gauge, the checks of
+    the transfer (overlap, correlation, overlap storms, interaction, residual spread) that are not ``ok``,
+    a refused transfer as ``unreliable`` (:mod:`extremes.transfer.checks`, project rules).
 ``excluded-data``
     Readings flagged by quality control: more than 1 % of the readings -> ``check`` (a working gauge loses
     well under 1 % to quality control, common practice), more than 10 % -> ``unreliable``. Spans kept out
@@ -351,8 +357,8 @@ def check_record_length(inputs: AssessmentInputs) -> list[Finding]:
         return []
     years = float(study.record_years)
     method = study.recommended_method
-    if not math.isfinite(years):
-        return []
+    if not math.isfinite(years) or method == "reference-skew-surge-joint-probability":
+        return []  # a transfer rests on the reference's years: check_short_record_and_reference judges it
     if method in DIRECT_METHODS and years < THRESHOLDS["direct_min_years"]:
         return [Finding("record-length", "check",
                         f"the recommended {method} extrapolates {years:.1f} years of record to 100 years, beyond "
@@ -441,7 +447,19 @@ def check_unresolved_faults(inputs: AssessmentInputs) -> list[Finding]:
     return out
 
 
+@register_check
+def check_short_record_and_reference(inputs: AssessmentInputs) -> list[Finding]:
+    """A short record's long-period levels, and a reference-gauge transfer's checks
+    (:func:`extremes.transfer.stage.study_findings`)."""
+    if inputs.study is None:
+        return []
+    from extremes.transfer.stage import study_findings
+
+    return [Finding(check, severity, text) for check, severity, text in study_findings(inputs.study)]
+
+
 for _check, _name in ((check_fitted_shape, "fitted-shape"), (check_level_above_record, "level-above-record"),
                       (check_methods_disagree, "methods-disagree"), (check_record_length, "record-length"),
-                      (check_excluded_data, "excluded-data"), (check_unresolved_faults, "unresolved-faults")):
+                      (check_excluded_data, "excluded-data"), (check_unresolved_faults, "unresolved-faults"),
+                      (check_short_record_and_reference, "short-record")):
     _check.check_name = _name

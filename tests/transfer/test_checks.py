@@ -98,3 +98,28 @@ def test_short_record_verdict_by_period():
         short_record_findings(0.0, [100], method="x")
     with pytest.raises(ValueError):
         Finding("x", "fine", "")
+
+
+def test_study_findings_for_the_assessment():
+    # the transfer's findings that are not ok, and the short-record verdict on the recommended method
+    from types import SimpleNamespace
+
+    from extremes.transfer.stage import study_findings
+
+    transfer = SimpleNamespace(supported=False, findings=(
+        Finding("overlap length", "ok", "fine"),
+        Finding("skew-surge correlation", "unreliable", "correlation 0.04"),
+        Finding("overlap storms", "check", "few storms")))
+    study = SimpleNamespace(method_details={"reference-skew-surge-joint-probability": transfer},
+                            options={"study": {"periods_years": [2.0, 5.0, 100.0]}}, record_years=2.0,
+                            recommended_method="peaks-over-threshold")
+    found = study_findings(study)
+    assert [(c, s) for c, s, _ in found] == [("reference-skew-surge-correlation", "unreliable"),
+                                            ("reference-overlap-storms", "check"),
+                                            ("short-record", "unreliable"), ("short-record", "check")]
+    assert found[0][2].startswith("reference transfer refused: correlation 0.04")
+    supported = SimpleNamespace(supported=True, findings=(Finding("overlap length", "ok", "fine"),))
+    study = SimpleNamespace(method_details={"reference-skew-surge-joint-probability": supported},
+                            options={"study": {"periods_years": [100.0]}}, record_years=2.0,
+                            recommended_method="reference-skew-surge-joint-probability")
+    assert study_findings(study) == []

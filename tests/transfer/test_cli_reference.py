@@ -50,6 +50,8 @@ def test_run_with_reference_in_the_study_file(gauges, tmp_path):
     detail = doc["methods"]["reference-skew-surge-joint-probability"]
     assert detail["supported"] is True and detail["relation"]["slope"] == pytest.approx(0.8, abs=0.15)
     assert "flagged as short" in doc["recommendation"]["reason"]
+    # a supported transfer is judged on the reference's years: no short-record or record-length verdict
+    assert not {f["check"] for f in doc["assessment"]["findings"]} & {"short-record", "record-length"}
     assert (out / "tables" / "reference_overlap.csv").is_file()
     assert "reference-skew-surge-joint-probability" in result.output
 
@@ -89,3 +91,15 @@ def test_batch_one_reference_serves_many_sites(gauges, tmp_path):
     digests = {json.loads((out / name / "results.json").read_text())["inputs"]["reference"]["sha256"]
                for name in ("site", "site_b")}
     assert digests == {hashlib.sha256((gauges / "long_gauge.csv").read_bytes()).hexdigest()}
+
+
+def test_short_record_without_reference_is_unreliable_beyond_a_few_years(gauges, tmp_path):
+    out = tmp_path / "alone"
+    result = _run(gauges / "site.csv", "--out", out, "--no-figures", "--resamples", "0", "--periods", "2,5,100")
+    assert result.exit_code == 0, result.output
+    doc = json.loads((out / "results.json").read_text())
+    assert doc["assessment"]["status"] == "unreliable"
+    short = [f for f in doc["assessment"]["findings"] if f["check"] == "short-record"]
+    assert [f["severity"] for f in short] == ["unreliable", "check"]
+    assert "cannot support the 100-year levels" in short[0]["text"] and "the 5-year levels" in short[1]["text"]
+    assert "UNRELIABLE" in result.output
