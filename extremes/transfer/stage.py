@@ -17,6 +17,7 @@ from pathlib import Path
 
 import pandas as pd
 
+from extremes.constants import DEFAULT_PERIODS_YEARS
 from extremes.errors import DataError
 from extremes.transfer.checks import short_record_findings
 from extremes.transfer.reference import ReferenceGauge, inference_from_reference, prepare_reference
@@ -53,11 +54,13 @@ def tide_inference(reference: ReferenceGauge | None):
 def transfer_stage(tide, reference: ReferenceGauge, *, options, datum: str):
     """The transferred levels at the site from its tide stage (:class:`extremes.tide.stage.TideStage`), with
     at most :data:`MAX_TRANSFER_RESAMPLES` resamples (the interval method states the number used)."""
-    return reference_joint_probability(
-        tide.skew_surges, tide.high_water_series, reference, site_model=tide.tide_model,
-        site_interaction=tide.interaction, n_bootstrap=min(options.resamples, MAX_TRANSFER_RESAMPLES),
-        confidence=options.confidence,
-        seed=options.seed, datum=datum, epoch_year=tide.epoch_year)
+    try:
+        return reference_joint_probability(
+            tide.skew_surges, tide.high_water_series, reference, site_model=tide.tide_model,
+            site_interaction=tide.interaction, n_bootstrap=min(options.resamples, MAX_TRANSFER_RESAMPLES),
+            confidence=options.confidence, seed=options.seed, datum=datum, epoch_year=tide.epoch_year)
+    except DataError as err:  # say which reference
+        raise DataError(f"reference {reference.source}: {err}") from None
 
 
 def recommend_with_transfer(comparison, transferred, *, record_years: float):
@@ -127,7 +130,8 @@ def study_findings(study) -> list[tuple[str, str, str]]:
                 prefix = "reference transfer refused: " if f.severity == "unreliable" else "reference transfer: "
                 out.append((f"reference-{f.check.replace(' ', '-')}", f.severity, prefix + f.reason))
     supported = transferred is not None and transferred.supported
-    periods = study.options["study"]["periods_years"]
+    options = getattr(study, "options", None) or {}
+    periods = options.get("study", {}).get("periods_years", DEFAULT_PERIODS_YEARS)
     for f in short_record_findings(study.record_years, periods, method=study.recommended_method,
                                    transfer_supported=supported):
         if f.severity != "ok":

@@ -103,3 +103,19 @@ def test_short_record_without_reference_is_unreliable_beyond_a_few_years(gauges,
     assert [f["severity"] for f in short] == ["unreliable", "check"]
     assert "cannot support the 100-year levels" in short[0]["text"] and "the 5-year levels" in short[1]["text"]
     assert "UNRELIABLE" in result.output
+
+
+def test_reference_that_does_not_overlap_the_site_is_one_line_exit_1(gauges, tmp_path):
+    # the site's readings moved 20 years later: the reference ends long before they begin
+    import pandas as pd
+
+    site = pd.read_csv(gauges / "site.csv")
+    site["time"] = (pd.to_datetime(site["time"]) + pd.DateOffset(years=20)).dt.strftime("%Y-%m-%dT%H:%MZ")
+    site.to_csv(tmp_path / "later.csv", index=False)
+    study = tmp_path / "study.toml"
+    study.write_text(f'[reference]\nrecord = "{gauges / "long_gauge.csv"}"\nunits = "cm"\n')
+    result = _run(tmp_path / "later.csv", "--config", study, "--out", tmp_path / "o", "--no-figures",
+                  "--resamples", "0")
+    assert result.exit_code == 1
+    assert "long_gauge.csv" in result.output and "overlap" in result.output and "Traceback" not in result.output
+    assert not (tmp_path / "o").exists()
