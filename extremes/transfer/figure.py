@@ -9,22 +9,27 @@ import io
 
 import numpy as np
 
-__all__ = ["overlap_figure_png"]
+__all__ = ["overlap_figure", "overlap_figure_png"]
 
 
 def overlap_figure_png(result, *, dpi: int = 100) -> bytes:
-    """PNG of the overlap pairs, the fitted line and +/- 2 residual standard deviations, and the lag scan.
+    """:func:`overlap_figure` as a PNG file (bytes) at ``dpi``."""
+    buffer = io.BytesIO()
+    overlap_figure(result).savefig(buffer, format="png", dpi=dpi, metadata={"Software": None})
+    return buffer.getvalue()
+
+
+def overlap_figure(result):
+    """The overlap pairs, the fitted line and +/- 2 residual standard deviations, and the lag scan.
 
     Parameters
     ----------
     result : extremes.transfer.site.ReferenceTransferResult
-    dpi : int
-        Resolution of the PNG.
 
     Returns
     -------
-    bytes
-        The PNG file.
+    matplotlib.figure.Figure
+        On an Agg canvas (as the report's figures, :mod:`extremes.report.figures`).
     """
     from matplotlib.backends.backend_agg import FigureCanvasAgg
     from matplotlib.figure import Figure
@@ -56,6 +61,4 @@ def overlap_figure_png(result, *, dpi: int = 100) -> bytes:
     ax_lag.set_ylabel("correlation of skew surges")
     ax_lag.set_title(f"lag chosen: {result.overlap.lag_hours:g} h")
     ax_lag.grid(alpha=0.3)
-    buffer = io.BytesIO()
-    fig.savefig(buffer, format="png", dpi=dpi, metadata={"Software": None})
-    return buffer.getvalue()
+    return fig
