@@ -1,8 +1,9 @@
 """The reference gauge: its long record read, checked, de-tided and reduced to skew surges.
 
-The reference goes through the same stages as a study's record (quality control, mean-sea-level trend
-removed, harmonic analysis, residual spikes masked, skew surges, interaction tests), and only what the
-transfer needs is kept: its skew surges, tide model, trend and interaction tests.
+The reference goes through the same stages as a study's record (:func:`extremes.quality.check_record` and
+:func:`extremes.tide.stage.analyse_record_tide`: mean-sea-level trend removed, harmonic analysis, residual
+spikes masked, skew surges, interaction tests), and only what the transfer needs is kept: its skew surges,
+tide model, trend and interaction tests.
 """
 from __future__ import annotations
 
@@ -14,7 +15,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
-from extremes.errors import DataError, ExtremesError, ExtremesWarning
+from extremes.errors import DataError, ExtremesWarning
 
 __all__ = ["ReferenceGauge", "prepare_reference", "record_from_series", "inference_from_reference",
            "INFERENCE_PAIRS"]
@@ -23,7 +24,6 @@ __all__ = ["ReferenceGauge", "prepare_reference", "record_from_series", "inferen
 INFERENCE_PAIRS = {"P1": "K1", "K2": "S2", "N2": "M2", "Q1": "O1"}
 #: a reference shorter than this does not add a storm climate [years]
 MIN_REFERENCE_YEARS = 10.0
-_YEAR_DAYS = 365.2425
 
 
 @dataclass(frozen=True, repr=False)
@@ -130,47 +130,26 @@ def prepare_reference(record, *, min_years: float = MIN_REFERENCE_YEARS) -> Refe
 
 
 def _prepare(record, min_years):
-    from extremes import quality, surge
-    from extremes.tide import datums as tide_datums
-    from extremes.tide.harmonic import analyse_tide
+    """The study's own stages on the reference: quality control and the tide stage (which handles sampling eras,
+    clock faults, the trend and residual spikes exactly as for the site)."""
+    from extremes import quality, sampling
+    from extremes.tide.stage import analyse_record_tide
 
-    notes = []
     qc = quality.check_record(record)
-    level = qc.level_m
-    valid = level.dropna()
-    years = float(valid.size * qc.interval / pd.Timedelta(days=_YEAR_DAYS)) if valid.size else 0.0
+    valid = qc.level_m.dropna()
+    years = float(sampling.represented_years(valid, qc.eras if len(qc.eras) else None)) if valid.size > 1 else 0.0
     if years < min_years:
         raise DataError(f"{record.source}: the reference holds {years:.1f} years of valid data; a reference "
                         f"gauge needs at least {min_years:g} (decades preferred)")
-    annual = surge.annual_mean_sea_level(level, min_completeness=0.75)
-    trend = None
-    try:
-        trend = surge.msl_trend(annual)
-    except ExtremesError as err:
-        notes.append(f"reference mean-sea-level trend not fitted ({err}); skew surges keep any trend")
-    end_year = float(surge.decimal_year(pd.DatetimeIndex([valid.index[-1]]))[0])
-    level_epoch = surge.adjust_to_epoch(level, trend if trend is not None else 0.0, end_year)
-    model = analyse_tide(level_epoch)
-    residual = surge.non_tidal_residual(level_epoch, model)
-    qc = qc.with_residual_spikes(residual)
-    keep = qc.level_m.reindex(level_epoch.index).notna()
-    level_epoch, residual = level_epoch.where(keep), residual.where(keep)
-    pad = pd.Timedelta(hours=30)
-    turning = tide_datums.high_low_waters(model, level_epoch.index[0] - pad, level_epoch.index[-1] + pad)
-    skew = surge.skew_surges_from_turning_points(level_epoch, turning)
+    tide = analyse_record_tide(qc)
+    skew = tide.skew_surges
     if len(skew) < 200:
         raise DataError(f"{record.source}: {len(skew)} complete tidal cycles in the reference; expected years")
-    try:
-        interaction = surge.interaction_tests_from_series(
-            residual, turning.loc[turning["kind"] == "high", "time"], skew)
-    except ExtremesError as err:
-        interaction = None
-        notes.append(f"interaction tests at the reference not available ({err})")
-    n_flagged = int(qc.n_flagged)
     return ReferenceGauge(source=str(record.source), sha256=record.sha256, datum=record.datum,
-                          record_years=years, skew_surges=skew, tide_model=model, msl_trend=trend,
-                          interaction=interaction, start=valid.index[0], end=valid.index[-1],
-                          n_flagged=n_flagged, notes=tuple(notes))
+                          record_years=years, skew_surges=skew, tide_model=tide.tide_model,
+                          msl_trend=tide.msl_trend, interaction=tide.interaction, start=valid.index[0],
+                          end=valid.index[-1], n_flagged=int(tide.quality.n_flagged),
+                          notes=tuple(f"reference: {n}" for n in tide.notes))
 
 
 def inference_from_reference(model) -> dict:
