@@ -4,7 +4,8 @@ Each check returns :class:`Finding` objects with a severity: ``ok``, ``check`` (
 the levels are used) or ``unreliable`` (must not be used as it stands). A transfer is supported when no
 finding is ``unreliable``. The limits are this package's choices, stated beside each check; the checks
 themselves follow METHODS sec. 14 (refuse a transfer when the overlap is short, the correlation weak, or the
-overlap's storms atypical of the reference record) and sec. 8 (tide-surge interaction).
+overlap's storms atypical of the reference record) and sec. 8 and 14 (tide-surge interaction, as decided by
+:class:`extremes.interaction.InteractionTests`).
 """
 from __future__ import annotations
 
@@ -155,14 +156,15 @@ def _interaction(site_interaction, reference_interaction):
         if tests is None:
             continue
         if bool(getattr(tests, "level_dependent", False)):
+            verdict = str(getattr(tests, "verdict", "")).strip()
             findings.append(Finding("tide-surge interaction", "check",
-                                    f"skew surge at the {who} depends on its predicted high-water level "
-                                    f"(Kendall tau {tests.kendall_tau:.2f}, p = {tests.kendall_p_value:.3g}): the "
-                                    "transfer and the convolution assume skew surge independent of the tide"))
+                                    f"skew surge at the {who} depends on its predicted high-water level"
+                                    + (f" ({verdict})" if verdict else "") + ": the transfer and the "
+                                    "convolution assume skew surge independent of the tide"))
     if not findings and site_interaction is not None:
         findings.append(Finding("tide-surge interaction", "ok",
-                                f"no dependence of skew surge on tide level at the site (Kendall p = "
-                                f"{site_interaction.kendall_p_value:.2g}; a short record tests weakly)"))
+                                "no dependence of skew surge on tide level found at the site (a short record "
+                                "tests weakly)"))
     return findings
 
 
