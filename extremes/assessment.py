@@ -75,6 +75,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
+from extremes.constants import DAYS_PER_YEAR
 from extremes.errors import DataError
 from extremes.jsonable import to_jsonable
 
@@ -374,7 +375,7 @@ def _excluded_span_years(quality) -> float:
     offsets = getattr(quality, "timing_offsets", None)
     if not isinstance(offsets, pd.DataFrame) or offsets.empty:
         return 0.0
-    return float(((offsets["end"] - offsets["start"]) / pd.Timedelta(days=365.2425)).sum())
+    return float(((offsets["end"] - offsets["start"]) / pd.Timedelta(days=DAYS_PER_YEAR)).sum())
 
 
 @register_check
@@ -394,7 +395,7 @@ def check_excluded_data(inputs: AssessmentInputs) -> list[Finding]:
         elif share > THRESHOLDS["flagged_check"]:
             out.append(Finding("excluded-data", "check", text))
     index = quality.flags.index
-    span_years = float((index.max() - index.min()) / pd.Timedelta(days=365.2425)) if len(index) else 0.0
+    span_years = float((index.max() - index.min()) / pd.Timedelta(days=DAYS_PER_YEAR)) if len(index) else 0.0
     excluded = _excluded_span_years(quality)
     if span_years > 0 and excluded > 0:
         share = excluded / span_years

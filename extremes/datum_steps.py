@@ -50,6 +50,7 @@ import numpy as np
 import pandas as pd
 
 from extremes import sampling
+from extremes.constants import DAYS_PER_YEAR
 
 __all__ = ["datum_shift_candidates", "monthly_means"]
 
@@ -247,7 +248,7 @@ def datum_shift_candidates(level_m: pd.Series, *, eras: pd.DataFrame | None = No
     n = len(months)
     if n < 2 * min_segment_months:
         return _empty()
-    t_years = ((months.index - months.index[0]) / pd.Timedelta(days=365.25)).to_numpy(dtype=float)
+    t_years = ((months.index - months.index[0]) / pd.Timedelta(days=DAYS_PER_YEAR)).to_numpy(dtype=float)
     x = months["mean_m"].to_numpy(dtype=float)
     calendar_month = months.index.month.to_numpy()
     # the seasonal cycle (a value per calendar month) is fitted with the line and the step, from two years

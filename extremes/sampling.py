@@ -22,6 +22,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
+from extremes.constants import DAYS_PER_YEAR
 from extremes.errors import DataError
 
 __all__ = ["sampling_eras", "sample_intervals_ns", "represented_years", "eras_to_list",
@@ -30,7 +31,7 @@ __all__ = ["sampling_eras", "sample_intervals_ns", "represented_years", "eras_to
 #: share of a month's stamps that may lie off its modal grid for the month to count as regular [-]
 MAX_OFF_GRID_FRACTION = 0.10
 _NS_PER_MINUTE = 60_000_000_000
-_YEAR_NS = 365.2425 * 86400e9
+_YEAR_NS = DAYS_PER_YEAR * 86400e9
 
 
 def _as_ns(times) -> np.ndarray:

@@ -32,6 +32,7 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
+from extremes.constants import DAYS_PER_YEAR
 from extremes.errors import DataError
 
 __all__ = ["StormSeason", "storm_season", "storm_season_or_none", "monthly_coverage", "month_weights",
@@ -41,7 +42,7 @@ __all__ = ["StormSeason", "storm_season", "storm_season_or_none", "monthly_cover
 MIN_SEASON_COVERAGE = 0.85
 #: months are weighted when the least-covered month has less than this share of the best-covered month's coverage
 UNEVEN_RATIO = 0.9
-_DAYS_PER_YEAR = 365.2422
+_DAYS_PER_YEAR = DAYS_PER_YEAR
 
 
 @dataclass(frozen=True, repr=False)

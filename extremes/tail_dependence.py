@@ -44,6 +44,7 @@ import pandas as pd
 from scipy import optimize, stats
 
 from extremes._levels import _NS_PER_HOUR, _times
+from extremes.constants import HOURS_PER_YEAR
 from extremes.errors import DataError
 
 __all__ = ["TailDependence", "tail_dependence_test", "gpd_band_loglik"]
@@ -258,7 +259,7 @@ def tail_dependence_test(skew, *, n_bands=3, threshold_quantile=0.97, min_separa
         raise DataError(f"skew holds {s.size} usable skew surges; the tail test needs at least 100")
     if tides_per_year is None:
         step = float(np.median(np.diff(t_ns))) if t_ns.size > 1 else 12.42 * _NS_PER_HOUR
-        tides_per_year = 365.2422 * 24 * _NS_PER_HOUR / step
+        tides_per_year = HOURS_PER_YEAR * _NS_PER_HOUR / step
     edges = np.quantile(x, np.linspace(0.0, 1.0, n_bands + 1))
     band_of = np.clip(np.searchsorted(edges[1:-1], x, side="right"), 0, n_bands - 1)
     u = float(np.quantile(s, threshold_quantile))

@@ -31,6 +31,7 @@ import pandas as pd
 
 from extremes.batch.gridded import block_series
 from extremes.batch.inputs import GriddedBlock, Station
+from extremes.constants import DAYS_PER_YEAR
 from extremes.errors import ExtremesError, OutputError
 
 logger = logging.getLogger(__name__)
@@ -122,7 +123,7 @@ def _record_years(results: Mapping) -> float:
         span = pd.Timestamp(record["end"]) - pd.Timestamp(record["start"])
     except (KeyError, TypeError, ValueError):
         return float("nan")
-    return float(span / pd.Timedelta(days=365.2425))
+    return float(span / pd.Timedelta(days=DAYS_PER_YEAR))
 
 
 def _assessment(results: Mapping) -> tuple[str, list[str]]:

@@ -20,6 +20,7 @@ import warnings
 
 import numpy as np
 
+from extremes.constants import HOURS_PER_YEAR
 from extremes.curves import DENSE_PERIODS_YEARS
 from extremes.errors import DataError, ExtremesWarning
 from extremes.joint import engine
@@ -32,7 +33,6 @@ logger = logging.getLogger(__name__)
 __all__ = ["classic_joint_probability", "HOURS_PER_YEAR"]
 
 #: hours in a mean year, n_h [h]
-HOURS_PER_YEAR = 8766.0
 
 
 def classic_joint_probability(hourly_tide_m, hourly_residual, *, threshold_m=None, threshold_quantile=None,

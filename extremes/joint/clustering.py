@@ -39,6 +39,7 @@ import logging
 import numpy as np
 import pandas as pd
 
+from extremes.constants import DAYS_PER_YEAR
 from extremes.errors import DataError
 
 logger = logging.getLogger(__name__)
@@ -49,7 +50,7 @@ __all__ = ["extremal_index_by_level", "theta_function", "cycle_positions", "high
 #: two spring-neap cycles (2 x 14.765 d, METHODS sec. 6) [d]: the default length of a block of the blocks estimator
 SPRING_NEAP_PAIR_DAYS = 2 * 14.765
 #: days per (tropical) year [d]
-_DAYS_PER_YEAR = 365.2422
+_DAYS_PER_YEAR = DAYS_PER_YEAR
 
 
 def cycle_positions(times, *, step_hours) -> np.ndarray:

@@ -15,6 +15,7 @@ import numpy as np
 import pandas as pd
 from scipy import stats
 
+from extremes.constants import DAYS_PER_YEAR
 from extremes.errors import DataError, ExtremesError
 
 __all__ = ["Finding", "SEVERITIES", "transfer_checks", "short_record_findings", "worst_severity",
@@ -106,9 +107,9 @@ def _storms(pairs, reference_skew: pd.Series):
     findings = []
     ref = reference_skew.dropna()
     start, end = pairs.pairs["reference_time"].min(), pairs.pairs["reference_time"].max()
-    record_years = (ref.index[-1] - ref.index[0]) / pd.Timedelta(days=365.2425)
+    record_years = (ref.index[-1] - ref.index[0]) / pd.Timedelta(days=DAYS_PER_YEAR)
     inside = (ref.index >= start) & (ref.index <= end)
-    overlap_years = (end - start) / pd.Timedelta(days=365.2425)
+    overlap_years = (end - start) / pd.Timedelta(days=DAYS_PER_YEAR)
     # storms: peaks 72 h apart above the 0.95 quantile; the level exceeded by STORMS_PER_YEAR of them a year
     base = samples.peaks_over_threshold(ref, threshold=float(np.quantile(ref.to_numpy(), 0.95)),
                                         min_separation_hours=72.0).peaks

@@ -20,6 +20,7 @@ import numpy as np
 import pandas as pd
 import scipy.signal
 
+from extremes.constants import DAYS_PER_YEAR, HOURS_PER_YEAR, NODAL_CYCLE_YEARS
 from extremes.errors import DataError
 from extremes.tide.harmonic import predict_tide
 
@@ -64,7 +65,7 @@ def _ar1(n, *, sd, phi, rng):
 
 def _storm_train(n_hours, *, storms_per_year, peak_min_m, peak_scale_m, rng):
     """Sum of storm pulses on an hourly grid; returns the series and the storms (centre, peak, width)."""
-    years = n_hours / 8766.0
+    years = n_hours / HOURS_PER_YEAR
     n_storms = rng.poisson(storms_per_year * years)
     centre = rng.uniform(0, n_hours, n_storms)
     peak = peak_min_m + rng.exponential(peak_scale_m, n_storms)
@@ -122,7 +123,7 @@ def simulate_gauge_pair(*, reference_years=30.0, site_years=2.0, site_tide=None,
         raise DataError(f"site_years must be in (0, reference_years]; got {site_years}")
     rng = np.random.default_rng(seed)
     site_tide = dict(MIXED_SITE_TIDE if site_tide is None else site_tide)
-    n = int(round(reference_years * 8766.0))
+    n = int(round(reference_years * HOURS_PER_YEAR))
     times = pd.date_range(pd.Timestamp(start, tz="UTC"), periods=n, freq="1h", name="time")
     climate = dict(storms_per_year=storms_per_year, peak_min_m=peak_min_m, peak_scale_m=peak_scale_m)
     lag = int(lag_hours)
@@ -131,7 +132,7 @@ def simulate_gauge_pair(*, reference_years=30.0, site_years=2.0, site_tide=None,
     background = _ar1(n + pad, sd=background_m, phi=0.97, rng=rng)
     residual = storms + background
     reference = _tide(times, REFERENCE_TIDE, reference_z0_m) + residual[pad:]
-    n_site = int(round(site_years * 8766.0))
+    n_site = int(round(site_years * HOURS_PER_YEAR))
     first = n - n_site
     if related:
         shared = residual[pad - lag:pad - lag + n]  # reference residual lag hours earlier
@@ -176,7 +177,7 @@ def true_site_levels(pair: GaugePair, periods_years, *, epoch, years=5000, seed=
     rng = np.random.default_rng(seed)
     centre = pd.Timestamp(epoch)
     centre = centre.tz_localize("UTC") if centre.tz is None else centre.tz_convert("UTC")
-    half = pd.Timedelta(days=365.2425 * 18.61 / 2)
+    half = pd.Timedelta(days=DAYS_PER_YEAR * NODAL_CYCLE_YEARS / 2)
     hours = pd.date_range(centre - half, centre + half, freq="1h")
     tide = _tide(hours, pair.site_tide, p["site_z0_m"])
     n_storms = int(round(years * p["storms_per_year"]))

@@ -28,6 +28,7 @@ from dataclasses import dataclass, field, replace
 import numpy as np
 import pandas as pd
 
+from extremes.constants import DAYS_PER_YEAR
 from extremes.errors import DataError, ExtremesError, ExtremesWarning
 from extremes.jsonable import to_jsonable
 from extremes.transfer.checks import transfer_checks, worst_severity
@@ -38,7 +39,7 @@ __all__ = ["METHOD", "ReferenceTransferResult", "reference_joint_probability", "
 
 #: method name of the transferred levels (results.json)
 METHOD = "reference-skew-surge-joint-probability"
-_DAYS_PER_YEAR = 365.2422
+_DAYS_PER_YEAR = DAYS_PER_YEAR
 
 
 @dataclass(frozen=True, repr=False)
