@@ -73,7 +73,8 @@ class ReturnLevelCurve:
     level_m : numpy.ndarray
         Return levels above ``datum`` at the mean-sea-level epoch ``epoch_year``. [m]
     lower_m, upper_m : numpy.ndarray
-        Bounds of the interval at level ``confidence`` (NaN where not computed). [m]
+        Bounds of the interval at level ``confidence`` (NaN where not computed; ``upper_m`` is +inf where
+        the data cannot limit the upper bound: ``null`` in JSON with ``upper_unbounded`` true). [m]
     confidence : float
         Confidence level of the bounds, e.g. 0.95.
     period_definition : {"1/AEP", "1/rate"}
@@ -131,7 +132,15 @@ class ReturnLevelCurve:
                 f"years for {self.method}; got {np.atleast_1d(periods).tolist()}"
             )
         logp, logq = np.log(self.periods_years), np.log(np.maximum(periods, 1.0))
-        out = np.interp(logq, logp, values)
+        with np.errstate(invalid="ignore"):
+            out = np.interp(logq, logp, values)
+        if np.any(np.isinf(values)):
+            # an unbounded bound (+inf) stays unbounded between its grid period and the neighbouring ones
+            j = np.clip(np.searchsorted(logp, logq), 1, logp.size - 1)
+            left, right = values[j - 1], values[j]
+            at_left, at_right = logq <= logp[j - 1], logq >= logp[j]
+            value_inf = np.where(at_left, left, np.where(at_right, right, np.where(np.isinf(left), left, right)))
+            out = np.where((np.isinf(left) | np.isinf(right)) & np.isinf(value_inf), value_inf, out)
         below = logq < logp[0]
         if np.any(below):
             # short linear extrapolation in log period down to 1 year (the grid starts just above 1 year);
@@ -217,6 +226,12 @@ class ReturnLevelCurve:
             out.loc[~inside, column] = np.nan
         return out
 
+    def rows(self, periods_years) -> pd.DataFrame:
+        """:meth:`table` plus the curve's ``period_definition`` and ``interval_method`` on every row (the
+        ``return_levels`` rows of results.json, CONTRACT.md)."""
+        return self.table(periods_years).assign(period_definition=self.period_definition,
+                                                interval_method=self.interval_method)
+
     # -- persistence ------------------------------------------------------------------------------
     def to_dict(self) -> dict:
         """JSON-ready dictionary (NaN becomes None)."""
@@ -229,6 +244,7 @@ class ReturnLevelCurve:
             "level_m": clean(self.level_m),
             "lower_m": clean(self.lower_m),
             "upper_m": clean(self.upper_m),
+            "upper_unbounded": [bool(v) for v in np.isposinf(self.upper_m)],
             "confidence": self.confidence,
             "period_definition": self.period_definition,
             "datum": self.datum,
@@ -244,9 +260,11 @@ class ReturnLevelCurve:
             def arr(key):
                 return np.array([np.nan if v is None else v for v in data[key]], dtype=float)
 
+            upper = arr("upper_m")
+            unbounded = np.asarray(data.get("upper_unbounded", [False] * upper.size), dtype=bool)
             return cls(
                 method=str(data["method"]), periods_years=arr("periods_years"), level_m=arr("level_m"),
-                lower_m=arr("lower_m"), upper_m=arr("upper_m"), confidence=float(data["confidence"]),
+                lower_m=arr("lower_m"), upper_m=np.where(unbounded, np.inf, upper), confidence=float(data["confidence"]),
                 period_definition=data["period_definition"], datum=str(data["datum"]),
                 epoch_year=None if data.get("epoch_year") is None else float(data["epoch_year"]),
                 interval_method=str(data.get("interval_method", "")), notes=tuple(data.get("notes", ())),

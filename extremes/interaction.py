@@ -117,19 +117,11 @@ class InteractionTests:
 
 
 def _decluster_peaks(residual: pd.Series, threshold: float, min_separation_ns: int) -> np.ndarray:
-    """Times [ns] of cluster maxima of exceedances; a new cluster starts after a gap > min_separation."""
-    values = residual.to_numpy()
-    above = np.flatnonzero(np.isfinite(values) & (values > threshold))
-    if above.size == 0:
-        return np.empty(0, dtype=np.int64)
-    t = residual.index.asi8[above]
-    v = values[above]
-    new = np.concatenate([[True], np.diff(t) > min_separation_ns])
-    cluster = np.cumsum(new) - 1
-    # position of the maximum within each cluster: sort by (cluster, -value)
-    order = np.lexsort((-v, cluster))
-    first = np.concatenate([[True], np.diff(cluster[order]) != 0])
-    return t[order[first]]
+    """Times [ns] of cluster maxima of exceedances (runs declustering of the extreme-value stage)."""
+    from extremes.extremal.samples import peaks_over_threshold
+
+    peaks = peaks_over_threshold(residual, threshold=threshold, min_separation_hours=min_separation_ns / 3.6e12)
+    return peaks.peaks.index.as_unit("ns").asi8
 
 
 def _thin(t_ns: np.ndarray, min_separation_ns: int) -> np.ndarray:

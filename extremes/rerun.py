@@ -36,7 +36,7 @@ def _recomputed(document: dict, curves: dict, *, chosen: str, offsets, periods, 
         datum=document.get("datum", "unspecified"), epoch_year=document.get("epoch_year"),
         record_years=document.get("record_years"), interval_minutes=record.get("interval_minutes"),
         methods=tuple(curves), recommended_method=document.get("recommended_method"), slr_offsets_m=offsets)
-    table = pd.concat([curve.table(periods) for curve in curves.values()], ignore_index=True)
+    table = pd.concat([curve.rows(periods) for curve in curves.values()], ignore_index=True)
     return {"return_levels": table, **slr.to_dict(), "cautions": cautions}, slr
 
 

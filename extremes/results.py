@@ -138,7 +138,7 @@ class StudyResult:
     def return_level_table(self, periods_years=None) -> pd.DataFrame:
         """All methods at ``periods_years`` (default: the study's), one row per method and period."""
         periods = self.options["study"]["periods_years"] if periods_years is None else periods_years
-        return pd.concat([curve.table(periods) for curve in self.curves.values()], ignore_index=True)
+        return pd.concat([curve.rows(periods) for curve in self.curves.values()], ignore_index=True)
 
     def to_dict(self) -> dict:
         """The ``results.json`` document (strict JSON types)."""
@@ -189,6 +189,11 @@ def csv_text(frame: pd.DataFrame) -> str:
             values = frame[column].dt.tz_convert("UTC").dt.tz_localize(None).to_numpy(dtype="datetime64[s]")
             text = np.char.add(np.datetime_as_string(values, unit="s"), "Z")
             frame[column] = np.where(np.isnat(values), "", text)
+        elif column.startswith("upper") and pd.api.types.is_float_dtype(frame[column]) and \
+                np.isposinf(frame[column]).any():
+            # an upper bound the data cannot limit (ReturnLevelCurve.upper_m = +inf)
+            frame[column] = [("unbounded" if np.isposinf(v) else ("" if np.isnan(v) else f"{v:.6g}"))
+                             for v in frame[column]]
     buffer = io.StringIO()
     frame.to_csv(buffer, index=False, float_format="%.6g")
     return buffer.getvalue()

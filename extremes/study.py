@@ -196,7 +196,7 @@ def run_study_record(record, *, options: StudyOptions | None = None,
 
     The stages, each one library call: :func:`extremes.quality.check_record`,
     :func:`extremes.tide.stage.analyse_record_tide`, the direct methods
-    (:mod:`extremes.joint.direct` over :func:`extremes.extremal.sample_fit.fit_sample`), the joint methods
+    (:mod:`extremes.extremal.direct` over :func:`extremes.extremal.sample_fit.fit_sample`), the joint methods
     (:mod:`extremes.joint`), :func:`extremes.joint.compare_methods` and
     :func:`extremes.sealevel.stage.assess_sea_level_rise`. With a prepared ``reference`` gauge
     (:func:`extremes.transfer.stage.load_reference`), the reference-gauge transfer too
@@ -279,6 +279,7 @@ def run_study_record(record, *, options: StudyOptions | None = None,
 
 def _direct_methods(joint, level_epoch, options, common, notes, season_months=None):
     """Annual maxima (GEV), peaks over threshold (GPD) and r-largest of the epoch-adjusted total level."""
+    from extremes.extremal import direct as direct_methods
     from extremes.extremal import samples
 
     curves, details = {}, {}
@@ -292,14 +293,14 @@ def _direct_methods(joint, level_epoch, options, common, notes, season_months=No
         notes.append(f"annual-maxima and r-largest not fitted: {complete_years} complete years; a GEV fit needs "
                      f"at least {MIN_ANNUAL_MAXIMA}")
     runs = [
-        ("annual-maxima", enough_years, lambda: joint.direct_annual_maxima(
+        ("annual-maxima", enough_years, lambda: direct_methods.direct_annual_maxima(
             level_epoch, **years, confidence=options.confidence, **common)),
-        ("peaks-over-threshold", True, lambda: joint.direct_peaks_over_threshold(
+        ("peaks-over-threshold", True, lambda: direct_methods.direct_peaks_over_threshold(
             level_epoch, min_separation_hours=options.min_separation_hours, confidence=options.confidence,
             **common)),
         # a check method: delta-method intervals keep it quick (its profile likelihood has no closed-form
         # derivatives and costs seconds a period); the curve's interval_method says so
-        ("r-largest", enough_years, lambda: joint.direct_r_largest(
+        ("r-largest", enough_years, lambda: direct_methods.direct_r_largest(
             level_epoch, min_separation_hours=options.min_separation_hours, **years,
             ci="delta", confidence=options.confidence, profile_periods_years=_CHECK_PROFILE_PERIODS_YEARS,
             **common)),

@@ -80,3 +80,18 @@ def test_table_on_one_period_basis():
     same = curve.table_on_basis([10.0], basis="1/AEP")
     assert same["level_m"].iloc[0] == pytest.approx(curve.level_at([10.0])[0])
     assert list(curve.table([10.0])["period_definition"]) == ["1/AEP"]
+
+def test_unbounded_upper_bound_is_null_in_json_unbounded_in_csv_and_survives_a_round_trip():
+    # CONTRACT.md: an upper bound the data cannot limit is null, never a number cut off by a grid
+    from extremes.results import csv_text as _csv
+
+    periods = np.array([2.0, 10.0, 100.0, 1000.0])
+    curve = ReturnLevelCurve(method="annual-maxima", periods_years=periods, level_m=np.array([1.0, 1.5, 2.0, 2.5]),
+                             lower_m=np.array([0.9, 1.3, 1.6, 1.8]), upper_m=np.array([1.1, 1.8, np.inf, np.inf]))
+    data = curve.to_dict()
+    assert data["upper_m"][2:] == [None, None] and data["upper_unbounded"] == [False, False, True, True]
+    back = ReturnLevelCurve.from_dict(data)
+    assert np.isposinf(back.upper_m[2:]).all() and np.isposinf(back.shifted(0.3).upper_m[3])
+    table = curve.table([10.0, 50.0, 100.0])
+    assert table["upper_m"].iloc[0] == pytest.approx(1.8) and np.isposinf(table["upper_m"].iloc[1:]).all()
+    assert "unbounded" in _csv(table).splitlines()[2]

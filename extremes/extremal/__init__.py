@@ -7,6 +7,12 @@ use the textbook sign (Coles 2001): shape > 0 is a heavy (Fréchet) tail, shape 
 """
 from extremes.extremal.dependence import extremal_index_intervals, extremal_index_runs
 from extremes.extremal.diagnostics import GoodnessOfFit, aicc_table, anderson_darling, probability_plot
+from extremes.extremal.direct import (
+    PROFILE_PERIODS_YEARS,
+    direct_annual_maxima,
+    direct_peaks_over_threshold,
+    direct_r_largest,
+)
 from extremes.extremal.distributions import (
     FIT_METHODS,
     MODELS,
@@ -31,6 +37,7 @@ from extremes.extremal.distributions import (
     gpd_exceedance_probability,
     gpd_exceedance_rate,
     gpd_loglik,
+    gpd_quantile,
     gpd_return_level,
     gumbel_loglik,
     sample_lmoments,
@@ -53,6 +60,7 @@ from extremes.extremal.threshold import (
     parameter_stability,
     return_level_by_threshold,
     select_threshold,
+    threshold_for_rate,
 )
 from extremes.extremal.uncertainty import (
     BOOTSTRAP_METHODS,
@@ -72,11 +80,13 @@ __all__ = [
     "fit_gev", "fit_gumbel", "fit_gpd", "fit_exponential", "fit_gev_rlargest", "fit_gev_many", "fit_gpd_many",
     "fit_gev_rlargest_many", "fit_gev_nonstationary",
     "gev_loglik", "gumbel_loglik", "gpd_loglik", "exponential_loglik", "gev_rlargest_loglik",
-    "gev_return_level", "gev_quantile", "gev_cdf", "gev_exceedance_probability", "gpd_return_level",
+    "gev_return_level", "gev_quantile", "gev_cdf", "gev_exceedance_probability", "gpd_return_level", "gpd_quantile",
     "gpd_exceedance_rate", "gpd_exceedance_probability", "sample_lmoments", "gev_lmoment_parameters",
     "return_levels", "delta_standard_errors", "gev_return_level_gradient", "bootstrap_parameters",
     "profile_intervals_many",
     "mean_residual_life", "parameter_stability", "return_level_by_threshold", "select_threshold",
+    "threshold_for_rate",
     "extremal_index_runs", "extremal_index_intervals",
     "probability_plot", "anderson_darling", "aicc_table",
+    "direct_annual_maxima", "direct_peaks_over_threshold", "direct_r_largest", "PROFILE_PERIODS_YEARS",
 ]

@@ -1,10 +1,12 @@
-r"""Goodness of fit: probability-plot data (PP and QQ), Anderson-Darling test with a parametric-bootstrap
-p-value, and an AICc comparison of Gumbel and GEV.
+r"""Goodness of fit: plotting positions, probability-plot data (PP and QQ), Anderson-Darling test with a
+parametric-bootstrap p-value, and an AICc comparison of Gumbel and GEV.
 
 References
 ----------
 .. [1] S. Coles, *An Introduction to Statistical Modeling of Extreme Values*. London, U.K.: Springer, 2001,
        sec. 3.3.3, doi: 10.1007/978-1-4471-3675-0.
+.. [4] I. I. Gringorten, "A plotting rule for extreme probability paper," *J. Geophys. Res.*, vol. 68,
+       no. 3, pp. 813-814, 1963, doi: 10.1029/JZ068i003p00813.
 .. [2] T. W. Anderson and D. A. Darling, "A test of goodness of fit," *J. Amer. Statist. Assoc.*, vol. 49,
        no. 268, pp. 765-769, 1954, doi: 10.1080/01621459.1954.10501232.
 .. [3] C. M. Hurvich and C.-L. Tsai, "Regression and time series model selection in small samples,"
@@ -19,7 +21,7 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from extremes.errors import ExtremesWarning
+from extremes.errors import DataError, ExtremesWarning
 from extremes.extremal import distributions as D
 
 logger = logging.getLogger(__name__)
@@ -38,9 +40,7 @@ def _cdf(fit, x, params=None):
 
 def _quantile(fit, p):
     if isinstance(fit, D.GPDFit):
-        if abs(fit.shape) < D.SHAPE_EPS:
-            return fit.threshold - fit.scale * np.log1p(-p)
-        return fit.threshold + fit.scale / fit.shape * np.expm1(-fit.shape * np.log1p(-p))
+        return D.gpd_quantile(p, threshold=fit.threshold, scale=fit.scale, shape=fit.shape)
     return D.gev_quantile(p, loc=fit.loc, scale=fit.scale, shape=fit.shape)
 
 
@@ -48,6 +48,40 @@ def _data(fit):
     if fit.model == "gev-r-largest":
         return np.sort(fit.data[:, 0])
     return np.sort(np.asarray(fit.data, dtype=float))
+
+
+#: plotting-position rules of :func:`plotting_positions`
+PLOTTING_POSITION_METHODS = ("weibull", "gringorten")
+
+
+def plotting_positions_weibull(n: int) -> np.ndarray:
+    r"""Weibull plotting positions :math:`p_i = i/(n + 1)`, i = 1..n (ascending) [1]_ sec. 3.3.3."""
+    return _positions(n, 0.0, 1.0)
+
+
+def plotting_positions_gringorten(n: int) -> np.ndarray:
+    r"""Gringorten plotting positions :math:`p_i = (i - 0.44)/(n + 0.12)`, i = 1..n (ascending) [4]_.
+
+    Non-exceedance probabilities for the sample sorted in ascending order.
+    """
+    return _positions(n, 0.44, 0.12)
+
+
+def _positions(n, a, b):
+    n = int(n)
+    if n < 1:
+        raise DataError(f"plotting positions need at least one value; got n={n}")
+    return (np.arange(1, n + 1) - a) / (n + b)
+
+
+def plotting_positions(n: int, *, method: str = "weibull") -> np.ndarray:
+    """Non-exceedance probabilities of the ascending order statistics of ``n`` values by ``method``
+    (:data:`PLOTTING_POSITION_METHODS`)."""
+    if method == "weibull":
+        return plotting_positions_weibull(n)
+    if method == "gringorten":
+        return plotting_positions_gringorten(n)
+    raise ValueError(f"method must be one of {list(PLOTTING_POSITION_METHODS)}; got {method!r}")
 
 
 def probability_plot(fit):
@@ -61,8 +95,7 @@ def probability_plot(fit):
         ``empirical_probability``, ``model_probability``, ``empirical_level_m``, ``model_level_m``.
     """
     x = _data(fit)
-    n = x.size
-    p = np.arange(1, n + 1) / (n + 1)
+    p = plotting_positions_weibull(x.size)
     return pd.DataFrame({"empirical_probability": p, "model_probability": _cdf(fit, x),
                          "empirical_level_m": x, "model_level_m": _quantile(fit, p)})
 
@@ -175,4 +208,5 @@ def aicc_table(maxima):
     return df
 
 
-__all__ = ["probability_plot", "anderson_darling", "GoodnessOfFit", "aicc_table"]
+__all__ = ["probability_plot", "anderson_darling", "GoodnessOfFit", "aicc_table", "PLOTTING_POSITION_METHODS",
+           "plotting_positions", "plotting_positions_weibull", "plotting_positions_gringorten"]

@@ -171,7 +171,8 @@ def _draw_and_fit(data, *, sample, model, method, threshold_m, min_separation_ho
         return drawn, extremal.fit_gev_rlargest(drawn), details
     details["min_separation_hours"] = min_separation_hours
     if threshold_m is None:
-        choice = extremal.select_threshold(data, min_separation_hours=min_separation_hours)
+        # a fixed rate of peaks a year: the choice does not condition the fit (benchmarks/bench_coverage.py)
+        choice = extremal.threshold_for_rate(data, min_separation_hours=min_separation_hours)
         threshold_m = choice.threshold_m
         details["threshold_rule"] = choice.rule
     drawn = extremal.peaks_over_threshold(data, threshold=float(threshold_m),
@@ -209,8 +210,8 @@ def fit_sample(data, *, sample: str = "annual-maxima", model: str = "gev", metho
     n_bootstrap, seed : int, keyword-only
         Bootstrap resamples and seed (the seed is recorded whatever the interval method).
     threshold_m : float, optional
-        Peaks over threshold: the threshold [m]; default the automatic rule of
-        :func:`~extremes.extremal.threshold.select_threshold`.
+        Peaks over threshold: the threshold [m]; default the fixed-rate rule of
+        :func:`~extremes.extremal.threshold.threshold_for_rate` (1.5 declustered peaks a year, at least 30).
     min_separation_hours : float, keyword-only
         Minimum time between independent events (peaks over threshold, r-largest). [h]
     r : int, keyword-only

@@ -46,7 +46,9 @@ def gev_return_level_gradient(periods_years, *, loc, scale, shape):
     r"""Gradient of the GEV return level w.r.t. (loc, scale, shape) [1]_ eq. 3.11.
 
     :math:`\nabla z_p = [1, -\xi^{-1}(1 - y_p^{-\xi}), \sigma\xi^{-2}(1 - y_p^{-\xi})
-    - \sigma\xi^{-1}y_p^{-\xi}\ln y_p]`; Gumbel limit [1, -ln y_p, -σ(ln y_p)²/2] for |ξ| < 1e-6.
+    - \sigma\xi^{-1}y_p^{-\xi}\ln y_p]`; for |ξ| < 1e-6 its limit as ξ -> 0,
+    :math:`[1, -\ln y_p, +\sigma(\ln y_p)^2/2]` (expand :math:`y_p^{-\xi} = 1 - \xi\ln y_p + \xi^2(\ln y_p)^2/2
+    - \dots`: the return level grows with the shape at ξ = 0, so the last entry is positive).
 
     Returns
     -------
@@ -56,7 +58,7 @@ def gev_return_level_gradient(periods_years, *, loc, scale, shape):
     yp = -np.log1p(-1.0 / T)
     lny = np.log(yp)
     if abs(shape) < D.SHAPE_EPS:
-        return np.stack([np.ones_like(lny), -lny, -scale * lny**2 / 2], axis=1)
+        return np.stack([np.ones_like(lny), -lny, scale * lny**2 / 2], axis=1)
     ymx = np.exp(-shape * lny)
     return np.stack([np.ones_like(lny), -(1 - ymx) / shape,
                      scale / shape**2 * (1 - ymx) - scale / shape * ymx * lny], axis=1)
@@ -155,6 +157,9 @@ def _find_roots(deviance, z_hat, side, se, crit, K):
             np.isfinite(fb[need]), np.abs(b[need] - z_hat[need]) * 2.0, np.abs(b[need] - z_hat[need]) * 0.75)
         fb[need] = deviance(b[need], need)
     bracketed = fb > 0
+    # an upper bound whose profile deviance stays below the cut over the whole expanding search (each step
+    # doubles the distance: 40 doublings) is one the data cannot limit: +inf, never a number cut by a grid
+    unbounded = (side > 0) & ~bracketed & np.isfinite(fb)
     # Illinois regula falsi on [a, b] with fa < 0 < fb (ga, gb: the values with Illinois halving applied)
     todo = np.flatnonzero(bracketed)
     ga, gb = fa.copy(), fb.copy()
@@ -188,6 +193,7 @@ def _find_roots(deviance, z_hat, side, se, crit, K):
     lin = a - fa * (b - a) / (fb - fa)
     out = np.where(np.isfinite(lin) & (np.minimum(a, b) <= lin) & (lin <= np.maximum(a, b)), lin, best)
     out[~bracketed] = np.nan
+    out[unbounded] = np.inf
     return out
 
 
@@ -534,8 +540,12 @@ def return_levels(fit, periods_years, *, ci="profile", confidence=0.95, n_bootst
             else:
                 lo, hi = _profile_gev(fit, Tu, crit, se)
             if np.any(np.isnan(lo) | np.isnan(hi)):
-                warnings.warn("a profile-likelihood bound was not found (the profile stays within the critical "
-                              "value); reported as NaN", ExtremesWarning, stacklevel=2)
+                warnings.warn("a profile-likelihood bound was not found (the model has no support beyond it); "
+                              "reported as NaN", ExtremesWarning, stacklevel=2)
+            if np.any(np.isinf(hi)):
+                warnings.warn("the profile likelihood cannot limit the upper bound at periods "
+                              f"{[float(t) for t in Tu[np.isinf(hi)]]} years: reported as unbounded (+inf)",
+                              ExtremesWarning, stacklevel=2)
             lower[usable], upper[usable] = lo, hi
         else:
             levels = _bootstrap_levels(fit, Tu, n_bootstrap=n_bootstrap, seed=seed, kind=bootstrap, aep=aep)

@@ -23,7 +23,7 @@ import numpy as np
 from extremes.constants import HOURS_PER_YEAR
 from extremes.curves import DENSE_PERIODS_YEARS
 from extremes.errors import DataError, ExtremesWarning
-from extremes.joint import engine
+from extremes.joint import year_bootstrap
 from extremes.joint.clustering import cycle_positions, extremal_index_by_level
 from extremes.joint.result import JointProbabilityResult
 from extremes.joint.skew import _utc_series, assemble, choose_threshold
@@ -85,9 +85,9 @@ def classic_joint_probability(hourly_tide_m, hourly_residual, *, threshold_m=Non
         notes.append(f"short record ({record_years:.1f} years)")
     diagnostics = {}
     threshold_m = choose_threshold(series, threshold_m, threshold_quantile, notes, diagnostics, "residual")
-    year_ids, _ = engine.check_year_ids(series.index)
-    comp = engine.Component("all", tide, 1.0, residual, year_ids)
-    comp.surge = engine.fit_tail(residual, threshold_m=float(threshold_m), years=record_years, method=tail_method)
+    year_ids, _ = year_bootstrap.check_year_ids(series.index)
+    comp = year_bootstrap.Component("all", tide, 1.0, residual, year_ids)
+    comp.surge = year_bootstrap.fit_tail(residual, threshold_m=float(threshold_m), years=record_years, method=tail_method)
     if clustering == "level":
         positions = cycle_positions(series.index, step_hours=1.0)
         theta_table = extremal_index_by_level(tide, residual, positions, n_offsets=n_offsets,
@@ -112,4 +112,5 @@ def classic_joint_probability(hourly_tide_m, hourly_residual, *, threshold_m=Non
                     confidence=confidence, seed=seed, grid_step_m=grid_step_m, datum=datum,
                     epoch_year=epoch_year, tail_method=tail_method, notes=notes, diagnostics=diagnostics,
                     threshold_m=float(threshold_m), theta_beyond=theta_beyond,
-                    interval_method=f"percentile bootstrap of whole years of residual ({n_bootstrap} resamples)")
+                    interval_method=f"bias-corrected percentile bootstrap of whole years of residual ({n_bootstrap} "
+                                    "resamples; tail refitted, extremal index held)")

@@ -13,6 +13,8 @@ References
    topographic coastlines," Ocean Eng., vol. 71, pp. 28-39, 2013, doi:10.1016/j.oceaneng.2013.02.003.
 .. [2] E. D'Arcy, J. A. Tawn and D. E. Sifnioti, "Accounting for climate change in extreme sea level
    estimation," Water, vol. 14, no. 19, p. 2956, 2022, doi:10.3390/w14192956.
+.. [3] B. Efron and R. J. Tibshirani, *An Introduction to the Bootstrap*. New York, NY, USA: Chapman &
+   Hall, 1993.
 """
 from __future__ import annotations
 
@@ -26,20 +28,27 @@ import pandas as pd
 from extremes.constants import DAYS_PER_YEAR, NODAL_CYCLE_YEARS
 from extremes.curves import DENSE_PERIODS_YEARS, ReturnLevelCurve
 from extremes.errors import DataError, ExtremesWarning
-from extremes.joint import engine
+from extremes.joint import year_bootstrap
 from extremes.joint.clustering import (
     extremal_index_by_level,
     positions_from_spacing,
     spring_neap_block_length,
     theta_function,
 )
-from extremes.joint.core import levels_for_rates
+from extremes.joint.convolution import levels_for_rates
 from extremes.joint.result import CLUSTERING_TABLE_PERIODS_YEARS, JointProbabilityResult
 from extremes.timebase import level_series
 
 logger = logging.getLogger(__name__)
 
-__all__ = ["skew_surge_joint_probability", "NODAL_CYCLE_YEARS", "DAYS_PER_YEAR"]
+__all__ = ["skew_surge_joint_probability", "NODAL_CYCLE_YEARS", "DAYS_PER_YEAR", "DEFAULT_THRESHOLD_QUANTILE"]
+
+#: quantile of skew surge used as the tail threshold by default: a fixed rule, so that the choice does not
+#: depend on the tail estimates it precedes (a data-driven stability rule picks high thresholds exactly in the
+#: samples whose high-threshold shape comes out low, which biased the intervals low; benchmarks/bench_coverage.py)
+DEFAULT_THRESHOLD_QUANTILE = 0.99
+#: thresholds (quantiles of skew surge) of the sensitivity table in ``diagnostics["threshold_sensitivity"]``
+SENSITIVITY_QUANTILES = (0.95, 0.97, 0.98, 0.99, 0.995)
 
 
 def _utc_series(values, name):
@@ -56,37 +65,59 @@ def _interaction_dependent(interaction):
 
 def assemble(method, components, *, events_per_year, theta_table, year_ids, periods_years, n_bootstrap,
              confidence, seed, grid_step_m, datum, epoch_year, tail_method, notes, diagnostics, threshold_m,
-             interval_method, theta_beyond="hold"):
-    """Curves (clustered and theta = 1), bootstrap intervals and the result object."""
+             interval_method, theta_beyond="hold", clustering_by_year=None, bias_correction=True,
+             sensitivity_thresholds=(), interval="bootstrap"):
+    """Curves (clustered and theta = 1), bootstrap intervals and the result object.
+
+    ``sensitivity_thresholds`` (pairs of quantile and threshold [m]) are refitted without resampling and their
+    10/100/1000-year levels reported in ``diagnostics["threshold_sensitivity"]`` (not used for the curve).
+    """
     t0 = time.perf_counter()
     theta_of_z = theta_function(theta_table, beyond=theta_beyond)
     theta_min = float(np.min(theta_table["theta"])) if isinstance(theta_table, pd.DataFrame) else (
         1.0 if theta_table is None else float(theta_table))
     periods = np.asarray(periods_years, dtype=float)
-    z_lo, z_hi, h = engine.grid_limits(components, events_per_year=events_per_year, theta_min=theta_min,
+    z_lo, z_hi, h = year_bootstrap.grid_limits(components, events_per_year=events_per_year, theta_min=theta_min,
                                        min_rate=1.0 / periods.max(), h=grid_step_m)
     z0 = np.floor(z_lo / h) * h
     nz = int(np.ceil((z_hi - z0) / h)) + 1
     z = z0 + h * np.arange(nz)
-    rate = sum(engine.component_rates(c, z0=z0, nz=nz, h=h, events_per_year=events_per_year)[0]
+    rate = sum(year_bootstrap.component_rates(c, z0=z0, nz=nz, h=h, events_per_year=events_per_year)[0]
                for c in components)
     theta = theta_of_z(z)
     level_u = levels_for_rates(z, rate, 1.0 / periods)
     level_c = levels_for_rates(z, theta * rate, 1.0 / periods)
     diagnostics["grid_step_m"] = float(h)
+    if len(sensitivity_thresholds):
+        diagnostics["threshold_sensitivity"] = _threshold_sensitivity(
+            components, sensitivity_thresholds, z=z, theta=theta, h=h, events_per_year=events_per_year,
+            tail_method=tail_method)
     diagnostics["seconds_curve"] = time.perf_counter() - t0
     nan = np.full(periods.shape, np.nan)
     lo_c = hi_c = lo_u = hi_u = nan
     if n_bootstrap:
         t1 = time.perf_counter()
-        boot_c, boot_u = engine.bootstrap_levels(components, year_ids=year_ids, z0=z0, nz=nz, h=h,
+        boot_c, boot_u = year_bootstrap.bootstrap_levels(components, year_ids=year_ids, z0=z0, nz=nz, h=h,
                                                  events_per_year=events_per_year, theta_of_z=theta_of_z,
                                                  periods_years=periods, n_bootstrap=n_bootstrap, seed=seed,
-                                                 method=tail_method)
-        lo_c, hi_c = engine.percentile_bounds(boot_c, confidence)
-        lo_u, hi_u = engine.percentile_bounds(boot_u, confidence)
-        n_ok = int(np.sum(np.all(np.isfinite(boot_u[:, :1]), axis=1)))
-        diagnostics["bootstrap_resamples_used"] = n_ok
+                                                 method=tail_method, clustering=clustering_by_year)
+        # bias-corrected percentiles: a resample distribution that sits below the estimate (the estimator
+        # under-reads) moves both bounds up (Efron & Tibshirani 1993, sec. 14.3)
+        lo_c, hi_c = year_bootstrap.percentile_bounds(boot_c, confidence,
+                                                      estimate=level_c if bias_correction else None)
+        lo_u, hi_u = year_bootstrap.percentile_bounds(boot_u, confidence,
+                                                      estimate=level_u if bias_correction else None)
+        if interval == "profile":
+            lo_c, hi_c = _profile_interval(components, theta_of_z, events_per_year, periods, level_c, boot_c,
+                                           confidence, diagnostics, lo_c, hi_c)
+        failed = np.all(np.isnan(boot_c), axis=1)
+        diagnostics["bootstrap_resamples_used"] = int(np.sum(~failed))
+        diagnostics["bootstrap_resamples_failed"] = int(np.sum(failed))
+        # resamples whose level lies above the top of the level grid: kept in the percentiles as +inf
+        diagnostics["bootstrap_resamples_above_grid"] = {
+            f"{t:g}": int(np.sum(np.isposinf(boot_c[:, j]))) for j, t in enumerate(periods)
+            if t in CLUSTERING_TABLE_PERIODS_YEARS or j == periods.size - 1}
+        diagnostics["bootstrap_unbounded_upper_periods"] = int(np.sum(np.isposinf(hi_c)))
         diagnostics["seconds_bootstrap"] = time.perf_counter() - t1
     common = dict(method=method, periods_years=periods, confidence=confidence, period_definition="1/rate",
                   datum=datum, epoch_year=epoch_year, interval_method=interval_method)
@@ -106,6 +137,66 @@ def assemble(method, components, *, events_per_year, theta_table, year_ids, peri
                                   threshold_m=float(threshold_m), tail=tail,
                                   events_per_year=float(events_per_year), notes=tuple(notes),
                                   diagnostics=diagnostics)
+
+
+#: shortest period [years] given a profile-likelihood interval: below it the level is set by the empirical
+#: body of the surge distribution as much as by the GPD tail, which the profile does not describe (there the
+#: bias-corrected bootstrap interval is kept)
+PROFILE_MIN_PERIOD_YEARS = 2.0
+
+
+def _profile_interval(components, theta_of_z, events_per_year, periods, level_c, boot_c, confidence,
+                      diagnostics, lo_boot, hi_boot):
+    """Chandler-Bate adjusted profile-likelihood bounds at the coarse periods from PROFILE_MIN_PERIOD_YEARS,
+    interpolated in log period; the bootstrap bounds below."""
+    from extremes.extremal.direct import PROFILE_PERIODS_YEARS, interp_log_period
+    from extremes.joint import tail_profile
+
+    (c,) = components
+    lo_c, hi_c = lo_boot.copy(), hi_boot.copy()
+    wanted = [t for t in PROFILE_PERIODS_YEARS if PROFILE_MIN_PERIOD_YEARS <= t <= periods[-1]]
+    idx = np.unique([int(np.argmin(np.abs(np.log(periods) - np.log(t)))) for t in wanted]
+                    + ([periods.size - 1] if periods[-1] >= PROFILE_MIN_PERIOD_YEARS else []))
+    if idx.size < 2:
+        return lo_c, hi_c
+    loglik_hat = float(tail_profile._Problem(c, theta_of_z=theta_of_z, events_per_year=events_per_year).loglik(
+        np.array([[c.surge.scale_m]]), np.array([[c.surge.shape]]))[0, 0])
+    lo, hi, adjustment = tail_profile.adjusted_profile_bounds(
+        c, theta_of_z=theta_of_z, events_per_year=events_per_year, periods_years=periods[idx],
+        level_m=level_c[idx], loglik_hat=loglik_hat, scale_hat=c.surge.scale_m, shape_hat=c.surge.shape,
+        bootstrap_levels=boot_c[:, idx], confidence=confidence)
+    diagnostics["profile_deviance_adjustment"] = {f"{t:g}": (None if not np.isfinite(a) else float(a))
+                                                  for t, a in zip(periods[idx], adjustment)}
+    logp = np.log(periods)
+    inside = periods >= periods[idx[0]]
+    lo_p, hi_p = interp_log_period(logp[idx], lo, logp), interp_log_period(logp[idx], hi, logp)
+    lo_c[inside] = np.where(np.isnan(lo_p[inside]), lo_c[inside], lo_p[inside])
+    hi_c[inside] = np.where(np.isnan(hi_p[inside]), hi_c[inside], hi_p[inside])
+    return lo_c, hi_c
+
+
+def _threshold_sensitivity(components, thresholds, *, z, theta, h, events_per_year, tail_method):
+    """Rows (quantile, threshold, exceedances, tail shape, 10/100/1000-year levels) at other thresholds."""
+    from dataclasses import replace
+
+    from extremes.errors import FitError
+
+    periods = np.array(CLUSTERING_TABLE_PERIODS_YEARS)
+    rows = []
+    for quantile, u in thresholds:
+        try:
+            refit = [replace(c, surge=year_bootstrap.fit_tail(c.surge_m, threshold_m=float(u), years=1.0,
+                                                               method=tail_method)) for c in components]
+        except FitError:
+            continue
+        rate = sum(year_bootstrap.component_rates(c, z0=z[0], nz=z.size, h=h, events_per_year=events_per_year)[0]
+                   for c in refit)
+        levels = levels_for_rates(z, theta * rate, 1.0 / periods)
+        rows.append({"quantile": float(quantile), "threshold_m": float(u),
+                     "n_exceedances": int(sum(np.sum(c.surge_m > u) for c in refit)),
+                     "shape": float(refit[0].surge.shape),
+                     **{f"level_{t:g}_m": float(v) for t, v in zip(periods, levels)}})
+    return rows
 
 
 def choose_threshold(series, threshold_m, threshold_quantile, notes, diagnostics, what):
@@ -169,7 +260,9 @@ def _band_labels(values, edges):
     return np.clip(np.searchsorted(edges, values, side="right") - 1, 0, len(edges) - 2)
 
 
-def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None, threshold_quantile=None,
+def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None,
+                                 threshold_quantile=DEFAULT_THRESHOLD_QUANTILE, resample_clustering=True,
+                                 bias_correction=True, interval="profile",
                                  tail_method="mle", clustering="level", extremal_index=None, n_offsets=32,
                                  min_exceedances=10, estimator="blocks", theta_beyond="trend", stratify=None, n_bands=3,
                                  skew_surge_tide_m=None, skew_surge_positions=None, interaction=None,
@@ -187,11 +280,26 @@ def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None,
         Skew surges indexed by UTC time of each tidal cycle, de-trended to the epoch [m]; or the frame of
         :func:`extremes.surge.skew_surges` (``skew_surge_m``, ``predicted_high_water_m``, UTC ``time``).
     threshold_m : float, optional
-        Threshold of the GPD tail of skew surge [m]; by default the ``threshold_quantile`` quantile when
-        that is given, else :func:`extremes.extremal.threshold.select_threshold` on the skew surges
-        (storm peaks 72 h apart, stable shape); the tail is then fitted to all exceedances.
-    threshold_quantile : float, optional
-        Quantile of skew surge used as the threshold (instead of the automatic choice).
+        Threshold of the GPD tail of skew surge [m]; by default the ``threshold_quantile`` quantile; the tail
+        is fitted to all exceedances.
+    threshold_quantile : float or None
+        Quantile of skew surge used as the threshold (default :data:`DEFAULT_THRESHOLD_QUANTILE`, a fixed
+        rule). ``None`` uses :func:`extremes.extremal.threshold.select_threshold` on the skew surges (storm
+        peaks 72 h apart, stable shape), the previous default: the choice then conditions the fit and its
+        intervals are too narrow (benchmarks/bench_coverage.py). Either way the 100-year level at other
+        thresholds is reported in ``diagnostics["threshold_sensitivity"]``.
+    resample_clustering : bool
+        Re-estimate the extremal-index function in each bootstrap resample (default; blocks estimator) so
+        that its uncertainty is in the interval; ``False`` holds the estimate (the previous behaviour).
+    interval : {"profile", "bootstrap"}
+        ``profile`` (default): profile likelihood of the return level with the deviance adjusted for storm
+        clustering (Chandler & Bate 2007) to the whole-year bootstrap's variance, which carries the
+        uncertainty of the exceedance probability and the extremal index (:mod:`extremes.joint.tail_profile`;
+        one tail fitted by maximum likelihood only, otherwise the bootstrap is used); ``bootstrap``: the
+        (bias-corrected) percentile interval of the whole-year bootstrap.
+    bias_correction : bool
+        Bootstrap intervals only: bias-corrected percentile interval (default) [3]_ sec. 14.3, or the plain
+        percentile interval (the previous behaviour).
     tail_method : {"mle", "lmoments"}
         Fit of the GPD tail (all exceedances of the threshold).
     clustering : {"level", "constant", "none"}
@@ -226,7 +334,10 @@ def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None,
     interaction : extremes.surge.InteractionTests, optional
         Result of the interaction tests; a level dependence gives an :class:`ExtremesWarning` and a note.
     n_bootstrap : int
-        Resamples of whole years of skew surge for the intervals (0: no intervals).
+        Resamples of whole years of skew surge for the intervals (0: no intervals). Each resample refits
+        the tail and its exceedance probability and re-estimates the extremal index; a level above the
+        level grid counts as above every bound (an upper bound among them is +inf: unbounded), a failed
+        refit is counted in ``diagnostics``.
     confidence : float
         Level of the intervals.
     periods_years : array-like of float
@@ -333,10 +444,10 @@ def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None,
     weights = _month_weights(series.index, events_per_year, month_weighting, stratify, notes, diagnostics)
     # -- threshold and tail
     threshold_m = choose_threshold(series, threshold_m, threshold_quantile, notes, diagnostics, "skew-surge")
-    year_ids, _ = engine.check_year_ids(series.index)
+    year_ids, _ = year_bootstrap.check_year_ids(series.index)
     components, band_thresholds = [], {}
     if stratify is None:
-        components.append(engine.Component("all", high_waters, 1.0, surge, year_ids, weight=weights))
+        components.append(year_bootstrap.Component("all", high_waters, 1.0, surge, year_ids, weight=weights))
     elif stratify == "tide-band":
         if tide_of_surge is None or np.any(~np.isfinite(tide_of_surge)):
             raise DataError("stratify='tide-band' needs the predicted high water of each skew surge "
@@ -347,7 +458,7 @@ def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None,
         band_thresholds = _band_thresholds(surge, s_band, n_bands, threshold_m, notes)
         for b in range(n_bands):
             sel = s_band == b
-            components.append(engine.Component(f"band {b + 1}", high_waters[hw_band == b],
+            components.append(year_bootstrap.Component(f"band {b + 1}", high_waters[hw_band == b],
                                                float(np.mean(hw_band == b)), surge[sel], year_ids[sel],
                                                weight=None if weights is None else weights[sel]))
         notes.append(f"skew-surge distribution stratified by {n_bands} bands of predicted high water "
@@ -357,17 +468,18 @@ def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None,
             raise DataError("stratify='month' needs high_waters_m as a Series indexed by UTC time")
         hw_month, s_month = np.asarray(hw_times.month), np.asarray(series.index.month)
         for m in range(1, 13):
-            components.append(engine.Component(f"month {m}", high_waters[hw_month == m],
+            components.append(year_bootstrap.Component(f"month {m}", high_waters[hw_month == m],
                                                float(np.mean(hw_month == m)), surge[s_month == m],
                                                year_ids[s_month == m]))
         notes.append("seasonal convolution: monthly high-water sets x monthly skew-surge distributions")
     else:
         raise DataError(f"stratify must be None, 'tide-band' or 'month'; got {stratify!r}")
     for c in components:
-        c.surge = engine.fit_tail(c.surge_m, threshold_m=band_thresholds.get(c.label, threshold_m),
+        c.surge = year_bootstrap.fit_tail(c.surge_m, threshold_m=band_thresholds.get(c.label, threshold_m),
                                   years=record_years, method=tail_method,
                                   weights=c.weight)
     # -- clustering
+    clustering_by_year = None
     if clustering == "level":
         if positions is None:
             positions = positions_from_spacing(series.index)
@@ -381,6 +493,11 @@ def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None,
             f"{theta_table['theta'].iloc[0]:.2f} at {theta_table['level_m'].iloc[0]:.2f} m to "
             f"{theta_table['theta'].iloc[-1]:.2f} at {theta_table['level_m'].iloc[-1]:.2f} m; above: "
             + ("held" if theta_beyond == "hold" else "extended along its rising trend, capped at 1"))
+        if resample_clustering and estimator == "blocks" and n_bootstrap:
+            clustering_by_year = year_bootstrap.ClusteringByYear(
+                high_waters, surge, positions, year_ids, theta_table["level_m"].to_numpy(), n_offsets=n_offsets,
+                block_length=spring_neap_block_length(events_per_year), seed=seed,
+                min_exceedances=min_exceedances, beyond=theta_beyond)
     elif clustering == "constant":
         if extremal_index is None or not 0 < float(extremal_index) <= 1:
             raise DataError(f"clustering='constant' needs 0 < extremal_index <= 1; got {extremal_index!r}")
@@ -391,10 +508,29 @@ def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None,
         notes.append("no storm clustering (extremal index 1; conservative)")
     else:
         raise DataError(f"clustering must be 'level', 'constant' or 'none'; got {clustering!r}")
+    held = "re-estimated" if clustering_by_year is not None else "held"
+    fixed_rule = threshold_quantile is not None or threshold_m is not None
+    if interval not in ("profile", "bootstrap"):
+        raise DataError(f"interval must be 'profile' or 'bootstrap'; got {interval!r}")
+    use_profile = (interval == "profile" and len(components) == 1 and tail_method == "mle"
+                   and components[0].weight is None)
+    threshold_words = "by a fixed rule" if fixed_rule else "by the stability rule, held"
+    if use_profile:
+        interval_method = (f"profile likelihood of the return level (GPD tail), deviance adjusted for storm "
+                           f"clustering (Chandler & Bate 2007) to the variance of a bootstrap of whole years "
+                           f"({n_bootstrap} resamples; tail, exceedance probability and extremal index "
+                           f"re-estimated in each; below {PROFILE_MIN_PERIOD_YEARS:g} years its bias-corrected "
+                           f"percentile interval); threshold {threshold_words}")
+    else:
+        interval_method = (("bias-corrected " if bias_correction else "")
+                           + f"percentile bootstrap of whole years of skew surge ({n_bootstrap} resamples; tail "
+                           f"and exceedance probability refitted and extremal index {held} in each; threshold "
+                           f"{threshold_words})")
     return assemble("skew-surge-joint-probability", components, events_per_year=events_per_year,
                     theta_table=theta_table, year_ids=year_ids, periods_years=periods_years,
                     n_bootstrap=n_bootstrap, confidence=confidence, seed=seed, grid_step_m=grid_step_m,
                     datum=datum, epoch_year=epoch_year, tail_method=tail_method, notes=notes,
                     diagnostics=diagnostics, threshold_m=threshold_m, theta_beyond=theta_beyond,
-                    interval_method=f"percentile bootstrap of whole years of skew surge ({n_bootstrap} resamples;"
-                                    " tail refitted, extremal index held)")
+                    clustering_by_year=clustering_by_year, bias_correction=bias_correction,
+                    interval_method=interval_method, interval="profile" if use_profile else "bootstrap",
+                    sensitivity_thresholds=[(q, float(np.quantile(surge, q))) for q in SENSITIVITY_QUANTILES])

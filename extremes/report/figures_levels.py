@@ -21,23 +21,13 @@ from collections.abc import Callable, Mapping
 import numpy as np
 
 from extremes.errors import DataError
+from extremes.extremal.diagnostics import plotting_positions_gringorten  # the one set of plotting positions
 from extremes.report.plotstyle import MARKERS, PALETTE, legend_below, level_label, new_figure, style
 
 logger = logging.getLogger(__name__)
 
 __all__ = ["plotting_positions_gringorten", "return_periods_gringorten", "fit_diagnostics_figure",
            "methods_comparison_figure", "sea_level_rise_figure", "offsets_figure"]
-
-
-def plotting_positions_gringorten(n: int) -> np.ndarray:
-    r"""Gringorten plotting positions [1]_: :math:`p_i = (i - 0.44)/(n + 0.12)`, i = 1..n (ascending).
-
-    Non-exceedance probabilities for the sample sorted in ascending order.
-    """
-    n = int(n)
-    if n < 1:
-        raise DataError(f"plotting positions need at least one value; got n={n}")
-    return (np.arange(1, n + 1) - 0.44) / (n + 0.12)
 
 
 def return_periods_gringorten(sample, *, record_years: float | None = None) -> tuple[np.ndarray, np.ndarray]:

@@ -248,3 +248,11 @@ def test_bad_inputs():
         warnings.simplefilter("error")
         with pytest.raises(Warning, match="only 5"):
             fit_gev([1.0, 1.5, 1.2, 2.0, 1.1])
+
+
+@pytest.mark.parametrize("shape", [-0.2, 0.0, 0.3])
+def test_gpd_quantile_matches_scipy_genpareto_ppf(shape):
+    # outside reference: scipy.stats.genpareto (c = shape, the textbook sign for the GPD)
+    p = np.array([0.1, 0.5, 0.99])
+    got = D.gpd_quantile(p, threshold=1.5, scale=0.2, shape=shape)
+    np.testing.assert_allclose(got, 1.5 + stats.genpareto.ppf(p, shape, scale=0.2), rtol=1e-12)

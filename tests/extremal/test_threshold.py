@@ -9,11 +9,13 @@ import pytest
 from scipy import stats
 
 from extremes.errors import FitError
+from extremes.extremal.samples import peaks_over_threshold
 from extremes.extremal.threshold import (
     mean_residual_life,
     parameter_stability,
     return_level_by_threshold,
     select_threshold,
+    threshold_for_rate,
 )
 
 
@@ -58,3 +60,23 @@ def test_select_threshold_rule(gpd_series):
     assert "lowest candidate" in c.rule
     with pytest.raises(FitError, match="peaks"):
         select_threshold(gpd_series, thresholds=[1.8, 1.9], min_separation_hours=1)
+
+
+def test_threshold_for_rate_gives_the_rate_and_ignores_the_tail_estimates(gpd_series):
+    # a fixed rule: the threshold leaves ~2 declustered peaks a year whatever the shape estimates say
+    choice = threshold_for_rate(gpd_series, peaks_per_year=2.0, min_separation_hours=72.0)
+    peaks = peaks_over_threshold(gpd_series, threshold=choice.threshold_m, min_separation_hours=72.0)
+    assert len(peaks) == choice.n_peaks
+    assert choice.rate_per_year == pytest.approx(2.0, rel=0.05)
+    assert "fixed rate" in choice.rule and choice.table.empty
+    # the same series with its tail scaled up (other shape/scale estimates, same ranks) gets the same quantile
+    stretched = gpd_series.where(gpd_series <= 1.0, 1.0 + 3.0 * (gpd_series - 1.0))
+    other = threshold_for_rate(stretched, peaks_per_year=2.0, min_separation_hours=72.0)
+    assert other.quantile == pytest.approx(choice.quantile, abs=1e-9)
+    # a short record keeps at least min_peaks peaks (its rate is higher); too few peaks is a FitError
+    short = gpd_series.iloc[: 4 * 365 * 8]
+    assert threshold_for_rate(short, peaks_per_year=1.0, min_peaks=30).n_peaks >= 30
+    with pytest.raises(FitError):
+        threshold_for_rate(gpd_series.iloc[: 4 * 200], peaks_per_year=1.0)
+    with pytest.raises(ValueError):
+        threshold_for_rate(gpd_series, peaks_per_year=0.0)

@@ -30,6 +30,27 @@ def test_gradient_methods_check_value():
                     atol=6e-6)
 
 
+@pytest.mark.parametrize("periods", [[2.0], [10.0, 100.0, 1000.0]])
+def test_gradient_at_shape_exactly_zero_matches_finite_differences_and_published_limit(periods):
+    # at shape exactly 0 the gradient must equal (a) central finite differences of the return level (Coles 2001
+    # eq. 3.10, whose xi -> 0 branch is the Gumbel level), across the branch switch, and (b) the published
+    # xi != 0 gradient (METHODS.md sec. 9, Coles 2001 eq. 3.11) in the limit xi -> 0 from either side
+    loc, scale = 2.0, 0.2
+    grad0 = gev_return_level_gradient(periods, loc=loc, scale=scale, shape=0.0)
+    h = 1e-4
+    fd_shape = (D.gev_return_level(periods, loc=loc, scale=scale, shape=h)
+                - D.gev_return_level(periods, loc=loc, scale=scale, shape=-h)) / (2 * h)
+    fd_scale = (D.gev_return_level(periods, loc=loc, scale=scale + h, shape=0.0)
+                - D.gev_return_level(periods, loc=loc, scale=scale - h, shape=0.0)) / (2 * h)
+    assert_allclose(grad0[:, 2], fd_shape, rtol=1e-6)
+    assert_allclose(grad0[:, 1], fd_scale, rtol=1e-8)
+    assert_allclose(grad0[:, 0], 1.0)
+    for side in (1e-5, -1e-5):
+        assert_allclose(grad0, gev_return_level_gradient(periods, loc=loc, scale=scale, shape=side), rtol=2e-4)
+    # the shape entry is positive: a heavier tail raises every return level above the 1-year one
+    assert np.all(grad0[:, 2] > 0)
+
+
 def test_q50_delta_and_profile_methods_check_values(q50):
     # [C] METHODS.md sec. 9: Q50 SE(z_100) = 0.3223, delta 95 % CI (2.512, 3.776); profile (2.762, 4.435)
     fit = D.fit_gev(q50)
@@ -173,3 +194,19 @@ def test_profile_upper_bounds_increase_with_period_for_a_heavy_tail():
     table = return_levels(fit_gev(sample), [50, 100, 200, 300, 500, 1000, 5000], ci="profile")
     upper = table["upper_m"].to_numpy()
     assert np.all(np.isfinite(upper)) and np.all(np.diff(upper) > 0)
+
+
+def test_profile_root_search_reports_an_upper_bound_the_deviance_never_reaches_as_unbounded():
+    # a profile deviance that levels off below the chi-square cut above the estimate (the data cannot limit the
+    # upper bound) gives +inf, never a number cut by the search; below the estimate it crosses as usual
+    from extremes.extremal.uncertainty import _find_roots
+
+    crit = 3.841459
+
+    def deviance(z, rows):
+        return np.where(z > 1.0, 2.0 * (1 - np.exp(-(z - 1.0))), 4.0 * (z - 1.0) ** 2) - crit
+
+    with np.errstate(all="ignore"):  # as in the library's callers
+        bounds = _find_roots(deviance, np.array([1.0, 1.0]), np.array([-1.0, 1.0]), np.array([0.2, 0.2]), crit, 2)
+    assert bounds[0] == pytest.approx(1.0 - np.sqrt(crit / 4.0), abs=1e-6)
+    assert np.isposinf(bounds[1])

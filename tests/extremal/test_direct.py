@@ -9,7 +9,7 @@ import pandas as pd
 import pytest
 
 from extremes.errors import ExtremesWarning
-from extremes.joint.direct import direct_annual_maxima, direct_peaks_over_threshold
+from extremes.extremal.direct import direct_annual_maxima, direct_peaks_over_threshold
 
 
 def _series_with_annual_maxima(maxima, years):

@@ -1,7 +1,7 @@
 r"""Direct methods on the total level, as return-level curves for comparison with the joint methods.
 
-Built from the extreme-value stage (:mod:`extremes.extremal`): sample, fit by maximum likelihood, return
-levels with profile-likelihood intervals [1]_. Profiles are computed on a coarse set of periods
+Built from this package's samples, fits and intervals (:mod:`extremes.extremal.sample_fit`): sample, fit by
+maximum likelihood, return levels with profile-likelihood intervals [1]_. Profiles are computed on a coarse set of periods
 (``profile_periods_years``) and interpolated linearly in log period onto the dense grid (profiles on all
 250 periods would be slow; the curves are smooth in log period).
 
@@ -22,10 +22,37 @@ from extremes.curves import DENSE_PERIODS_YEARS, ReturnLevelCurve
 
 logger = logging.getLogger(__name__)
 
-__all__ = ["DirectFit", "direct_annual_maxima", "direct_peaks_over_threshold", "direct_r_largest", "PROFILE_PERIODS_YEARS"]
+__all__ = ["DirectFit", "INTERVAL_METHODS", "interp_log_period", "direct_annual_maxima",
+           "direct_peaks_over_threshold", "direct_r_largest", "PROFILE_PERIODS_YEARS"]
 
 #: periods at which profile-likelihood intervals are computed before interpolation [years]
 PROFILE_PERIODS_YEARS = (1.001, 1.01, 1.1, 1.5, 2, 3, 5, 10, 20, 50, 100, 200, 500, 1000, 2000, 5000, 10_000)
+
+
+#: how each interval method is stated on the curve (``model`` filled in per method)
+INTERVAL_METHODS = {
+    "profile": "profile likelihood of the return level ({model}; chi-square(1) cut; an upper bound the "
+               "likelihood cannot limit is unbounded)",
+    "delta": "delta method ({model}; symmetric normal interval)",
+    "bootstrap": "parametric percentile bootstrap ({model})",
+}
+
+
+def interp_log_period(log_periods, values, log_dense):
+    """Values at coarse log periods interpolated linearly onto dense log periods (NaN outside, NaN values
+    skipped); an unbounded value (+inf) stays unbounded between it and its neighbours."""
+    v = np.asarray(values, dtype=float)
+    ok = ~np.isnan(v)
+    if ok.sum() < 2:
+        return np.full(np.shape(log_dense), np.nan)
+    xs, vs = np.asarray(log_periods, dtype=float)[ok], v[ok]
+    x = np.asarray(log_dense, dtype=float)
+    with np.errstate(invalid="ignore"):
+        out = np.interp(x, xs, vs, left=np.nan, right=np.nan)
+    j = np.clip(np.searchsorted(xs, x), 1, xs.size - 1)
+    near_inf = np.isinf(vs[j]) | np.isinf(vs[j - 1])
+    return np.where(near_inf & (x >= xs[0]) & (x <= xs[-1]),
+                    np.where(x == xs[j - 1], vs[j - 1], np.where(x == xs[j], vs[j], np.inf)), out)
 
 
 def _curve(method, table, *, periods_years, confidence, definition, datum, epoch_year, interval, notes):
@@ -35,12 +62,7 @@ def _curve(method, table, *, periods_years, confidence, definition, datum, epoch
     x = np.log(dense)
 
     def interp(col):
-        v = t[col].to_numpy(dtype=float)
-        ok = np.isfinite(v)
-        if ok.sum() < 2:
-            return np.full(dense.shape, np.nan)
-        out = np.interp(x, lp[ok], v[ok], left=np.nan, right=np.nan)
-        return out
+        return interp_log_period(lp, t[col].to_numpy(dtype=float), x)
 
     return ReturnLevelCurve(method=method, periods_years=dense, level_m=interp("level_m"),
                             lower_m=interp("lower_m"), upper_m=interp("upper_m"), confidence=confidence,
@@ -106,10 +128,7 @@ class DirectFit:
         p = np.asarray(p, dtype=float)
         if self.method in ("annual-maxima", "r-largest"):
             return distributions.gev_quantile(p, loc=f.loc, scale=f.scale, shape=f.shape)
-        # GPD above the threshold: x = u + sigma/xi [(1 - p)^-xi - 1] (Coles 2001, ch. 4); xi -> 0: exponential
-        if abs(f.shape) < 1e-9:
-            return f.threshold - f.scale * np.log1p(-p)
-        return f.threshold + f.scale / f.shape * ((1.0 - p) ** (-f.shape) - 1.0)
+        return distributions.gpd_quantile(p, threshold=f.threshold, scale=f.scale, shape=f.shape)
 
     def to_dict(self) -> dict:
         return {"method": self.method, "n": int(self.fit.n), "fit": self.fit,
@@ -118,14 +137,14 @@ class DirectFit:
 
 
 def _direct(method, level_m_at_epoch, *, ci, confidence, periods_years, profile_periods_years, datum,
-            epoch_year, describe, **sample_options):
+            epoch_year, describe, model, extra_notes=(), **sample_options):
     from extremes.extremal.sample_fit import fit_sample
 
     result = fit_sample(level_m_at_epoch, sample=method, method="mle", ci=ci, confidence=confidence,
                         periods_years=_coarse(periods_years, profile_periods_years), **sample_options)
-    notes = describe(result) + [f"{ci} intervals at {len(result.return_levels)} periods, interpolated in log "
+    notes = list(extra_notes) + describe(result) + [f"{ci} intervals at {len(result.return_levels)} periods, interpolated in log "
                                 "period"]
-    interval = "profile likelihood" if ci == "profile" else ci
+    interval = INTERVAL_METHODS[ci].format(model=model)
     curve = _curve(method, result.return_levels, periods_years=periods_years, confidence=confidence,
                    definition=result.period_definition, datum=datum, epoch_year=epoch_year, interval=interval,
                    notes=notes)
@@ -166,12 +185,13 @@ def direct_annual_maxima(level_m_at_epoch, *, min_coverage=0.9, water_year_start
 
     return _direct("annual-maxima", level_m_at_epoch, ci=ci, confidence=confidence, periods_years=periods_years,
                    profile_periods_years=profile_periods_years, datum=datum, epoch_year=epoch_year,
-                   describe=describe, min_coverage=min_coverage, water_year_start_month=water_year_start_month,
-                   season_months=season_months)
+                   describe=describe, model="GEV of annual maxima", min_coverage=min_coverage,
+                   water_year_start_month=water_year_start_month, season_months=season_months)
 
 
-def direct_peaks_over_threshold(level_m_at_epoch, *, threshold_m=None, min_separation_hours=72.0, ci="profile",
-                                confidence=0.95, periods_years=DENSE_PERIODS_YEARS,
+def direct_peaks_over_threshold(level_m_at_epoch, *, threshold_m=None, threshold_rule="rate", peaks_per_year=None,
+                                min_separation_hours=72.0, ci="profile", confidence=0.95,
+                                periods_years=DENSE_PERIODS_YEARS,
                                 profile_periods_years=PROFILE_PERIODS_YEARS, datum="unspecified",
                                 epoch_year=None) -> DirectFit:
     """GPD fit of declustered peaks of the total level over a threshold, as a curve (``1/rate``).
@@ -181,7 +201,14 @@ def direct_peaks_over_threshold(level_m_at_epoch, *, threshold_m=None, min_separ
     level_m_at_epoch : pandas.Series
         Observed level adjusted to the MSL epoch, UTC index, NaN gaps. [m]
     threshold_m : float, optional
-        Threshold [m]; default :func:`extremes.extremal.threshold.select_threshold`.
+        Threshold [m]; default by ``threshold_rule``.
+    threshold_rule : {"rate", "stability"}
+        ``rate`` (default): :func:`extremes.extremal.threshold.threshold_for_rate`, a fixed number of peaks
+        a year (``peaks_per_year``, default 1.5, at least 30 peaks), which does not condition the fit;
+        ``stability``: :func:`extremes.extremal.threshold.select_threshold` (the previous default; its
+        intervals are too narrow, benchmarks/bench_coverage.py).
+    peaks_per_year : float, optional
+        Rate of the ``rate`` rule. [1/year]
     min_separation_hours : float
         Declustering separation. [h]
     ci, confidence, periods_years, profile_periods_years, datum, epoch_year
@@ -198,10 +225,27 @@ def direct_peaks_over_threshold(level_m_at_epoch, *, threshold_m=None, min_separ
         return chosen + [f"GPD (maximum likelihood) of {f.n} peaks ({f.rate_per_year:.2f}/yr, "
                          f"{min_separation_hours:g} h apart): scale {f.scale:.3f} m, shape {f.shape:.3f}"]
 
+    from extremes.extremal import threshold
+
+    chosen = []
+    if threshold_m is None:
+        if threshold_rule == "rate":
+            choice = threshold.threshold_for_rate(
+                level_m_at_epoch, min_separation_hours=min_separation_hours,
+                peaks_per_year=threshold.DEFAULT_PEAKS_PER_YEAR if peaks_per_year is None else peaks_per_year)
+        elif threshold_rule == "stability":
+            choice = threshold.select_threshold(level_m_at_epoch, min_separation_hours=min_separation_hours)
+        else:
+            raise ValueError(f"threshold_rule must be 'rate' or 'stability'; got {threshold_rule!r}")
+        threshold_m = choice.threshold_m
+        chosen = [f"threshold {threshold_m:.3f} m by the automatic rule: {choice.rule}"]
+    rule_words = {"rate": "; threshold by a fixed rate", "stability": "; threshold by the stability rule"}
     return _direct("peaks-over-threshold", level_m_at_epoch, ci=ci, confidence=confidence,
                    periods_years=periods_years, profile_periods_years=profile_periods_years, datum=datum,
                    epoch_year=epoch_year, describe=describe, threshold_m=threshold_m,
-                   min_separation_hours=min_separation_hours)
+                   min_separation_hours=min_separation_hours, extra_notes=chosen,
+                   model="GPD of declustered peaks with the Poisson rate" + (rule_words.get(threshold_rule, "")
+                                                                            if chosen else ""))
 
 
 def direct_r_largest(level_m_at_epoch, *, r=5, min_separation_hours=72.0, min_coverage=0.9, season_months=None,
@@ -224,5 +268,6 @@ def direct_r_largest(level_m_at_epoch, *, r=5, min_separation_hours=72.0, min_co
 
     return _direct("r-largest", level_m_at_epoch, ci=ci, confidence=confidence, periods_years=periods_years,
                    profile_periods_years=profile_periods_years, datum=datum, epoch_year=epoch_year,
-                   describe=describe, r=r, min_separation_hours=min_separation_hours, min_coverage=min_coverage,
+                   describe=describe, model=f"r-largest GEV, r = {r}", r=r,
+                   min_separation_hours=min_separation_hours, min_coverage=min_coverage,
                    season_months=season_months)
