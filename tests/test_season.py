@@ -13,7 +13,7 @@ import pytest
 from extremes import season
 from extremes.errors import DataError
 from extremes.extremal import distributions, samples
-from extremes.joint import engine
+from extremes.joint import year_bootstrap
 from tests import tide_types_sim as sim
 
 WINTER = (10, 11, 12, 1, 2, 3)
@@ -65,8 +65,8 @@ def test_weighting_removes_the_winter_outage_bias_of_the_tail_probability():
         cov = season.monthly_coverage(cut["time"], tides_per_year=705.75)
         w = season.month_weights(cut["time"], cov)
         x = cut["skew_surge_m"].to_numpy()
-        weighted.append(engine.fit_tail(x, threshold_m=u, years=30.0, weights=w).tail_probability)
-        plain.append(engine.fit_tail(x, threshold_m=u, years=30.0).tail_probability)
+        weighted.append(year_bootstrap.fit_tail(x, threshold_m=u, years=30.0, weights=w).tail_probability)
+        plain.append(year_bootstrap.fit_tail(x, threshold_m=u, years=30.0).tail_probability)
     assert np.mean(weighted) == pytest.approx(truth, rel=0.1)
     assert np.mean(plain) < 0.88 * truth  # winter outages: storms under-represented, levels biased low
 
@@ -77,7 +77,7 @@ def test_weighted_tail_equals_the_fit_of_a_replicated_sample():
     x = rng.gumbel(0.0, 0.1, 3000)
     w = rng.integers(1, 4, x.size).astype(float)
     u = float(np.quantile(x, 0.95))
-    dist = engine.fit_tail(x, threshold_m=u, years=10.0, weights=w / w.mean())
+    dist = year_bootstrap.fit_tail(x, threshold_m=u, years=10.0, weights=w / w.mean())
     rep = np.repeat(x, w.astype(int))
     ref = distributions.fit_gpd(rep[rep > u], threshold=u, years=10.0)
     assert dist.scale_m == pytest.approx(ref.scale, rel=2e-3) and dist.shape == pytest.approx(ref.shape, abs=3e-3)
