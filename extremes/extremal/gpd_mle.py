@@ -108,5 +108,16 @@ def fit_gpd_many(exceedances, *, model="gpd", weights=None, n_grid=40):
         loglik = total * _profile(theta[:, None], y, w, ybar)[:, 0]
     out = np.stack([scale, xi], axis=1)
     bad = ~np.isfinite(out).all(axis=1) | ~(scale > 0) | ~(xi > -0.999) | ~(total > 0)
+    for i in np.flatnonzero(bad & (total > 0)):  # rare (short, strongly bounded samples): scipy's own fit
+        from scipy import stats
+
+        sample = np.repeat(y[i], np.rint(w_abs[i]).astype(np.int64)) if weights is not None else y[i]
+        if sample.size < 3 or (weights is not None and not np.allclose(w_abs[i], np.rint(w_abs[i]))):
+            continue
+        c_hat, _, scale_hat = stats.genpareto.fit(sample, floc=0.0)
+        if np.isfinite(scale_hat) and scale_hat > 0 and c_hat > -0.999:
+            out[i] = (scale_hat, c_hat)
+            loglik[i] = float(np.sum(stats.genpareto.logpdf(sample, c_hat, scale=scale_hat)))
+            bad[i] = False
     out[bad] = np.nan
     return out, np.where(bad, np.nan, loglik)

@@ -47,6 +47,8 @@ __all__ = ["skew_surge_joint_probability", "NODAL_CYCLE_YEARS", "DAYS_PER_YEAR",
 #: depend on the tail estimates it precedes (a data-driven stability rule picks high thresholds exactly in the
 #: samples whose high-threshold shape comes out low, which biased the intervals low; benchmarks/bench_coverage.py)
 DEFAULT_THRESHOLD_QUANTILE = 0.99
+#: fewest exceedances the quantile rule leaves (a short record gets a lower quantile)
+MIN_TAIL_EXCEEDANCES = 50
 #: thresholds (quantiles of skew surge) of the sensitivity table in ``diagnostics["threshold_sensitivity"]``
 SENSITIVITY_QUANTILES = (0.95, 0.97, 0.98, 0.99, 0.995)
 
@@ -207,8 +209,12 @@ def choose_threshold(series, threshold_m, threshold_quantile, notes, diagnostics
     if threshold_m is not None:
         return float(threshold_m)
     if threshold_quantile is not None:
-        value = float(np.quantile(series.to_numpy(), threshold_quantile))
-        notes.append(f"{what} threshold {value:.3f} m = the {threshold_quantile:g} quantile")
+        # a short record keeps at least MIN_TAIL_EXCEEDANCES exceedances (the rule still depends on the sample
+        # size only, never on the tail estimates)
+        x = series.to_numpy()
+        q = min(float(threshold_quantile), max(0.5, 1.0 - MIN_TAIL_EXCEEDANCES / max(x.size, 1)))
+        value = float(np.quantile(x, q))
+        notes.append(f"{what} threshold {value:.3f} m = the {q:g} quantile")
         return value
     try:
         choice = threshold_choice.select_threshold(series, min_separation_hours=72.0)
