@@ -315,6 +315,46 @@ def _check_positive(**values):
             raise DataError(f"{name} must be a positive number; got {value!r}")
 
 
+def _flag_duplicates(stamps: np.ndarray, values: np.ndarray, codes: np.ndarray, *, any_out_of_order: bool):
+    """Flag identical repeats and conflicting values at one stamp among the rows with a reading (in
+    ``codes``, in place); return the rows that remain, in time order."""
+    valid_rows = np.flatnonzero(codes == 0)
+    if not any_out_of_order and np.all(stamps[1:] != stamps[:-1]):
+        return valid_rows  # the common case: strictly increasing stamps, no duplicates
+    order = valid_rows[np.argsort(stamps[valid_rows], kind="stable")]
+    ts = stamps[order]
+    repeated = np.zeros(len(ts), dtype=bool)
+    repeated[1:] = ts[1:] == ts[:-1]
+    repeated[:-1] |= repeated[1:]
+    # sort the rows of repeated stamps by (stamp, value, row) to find identical and conflicting copies
+    rows = order[repeated]
+    rows = rows[np.lexsort((rows, values[rows], stamps[rows]))]
+    ts, vs = stamps[rows], values[rows]
+    if len(rows):
+        same_time = np.concatenate([[False], ts[1:] == ts[:-1]])
+        identical = same_time & np.concatenate([[False], vs[1:] == vs[:-1]])
+        group = np.cumsum(~same_time) - 1
+        starts = np.flatnonzero(~same_time)
+        ends = np.append(starts[1:], len(ts)) - 1
+        conflicting_group = vs[ends] != vs[starts]  # values are sorted within a stamp
+        conflicting = conflicting_group[group] & ~identical
+        codes[rows[identical]] = _CODE["duplicate"]
+        codes[rows[conflicting]] = _CODE["conflicting_duplicate"]
+    return order[codes[order] == 0]
+
+
+def _flag_out_of_range(uv: np.ndarray, u_rows: np.ndarray, codes: np.ndarray, range_factor: float):
+    """Flag readings outside the record's robust range (0.5-99.5 % quantiles widened by ``range_factor``
+    spreads; never fixed numbers, METHODS sec. 7); set them NaN in ``uv``; return the limits [m]."""
+    q_lo, q_hi = np.quantile(uv, [0.005, 0.995])
+    spread = q_hi - q_lo
+    lower, upper = q_lo - range_factor * spread, q_hi + range_factor * spread
+    bad_range = (uv < lower) | (uv > upper)
+    codes[u_rows[bad_range]] = _CODE["out_of_range"]
+    uv[bad_range] = np.nan
+    return lower, upper
+
+
 # ----------------------------------------------------------------------------------------------------------
 def check_record(record: GaugeRecord, *, range_factor: float = 3.0, spike_k: float = 5.0,
                  spike_window_hours: float = 1.0, flatline_min_run: int = 4, flatline_min_hours: float = 1.0,
@@ -388,30 +428,7 @@ def check_record(record: GaugeRecord, *, range_factor: float = 3.0, spike_k: flo
     out_of_order = np.flatnonzero(stamps[1:] < running_max[:-1]) + 1
 
     # duplicates among rows with a reading: identical repeats, then conflicting values at one stamp
-    valid_rows = np.flatnonzero(codes == 0)
-    if len(out_of_order) == 0 and np.all(stamps[1:] != stamps[:-1]):
-        u_rows = valid_rows  # the common case: strictly increasing stamps, no duplicates
-    else:
-        order = valid_rows[np.argsort(stamps[valid_rows], kind="stable")]
-        ts = stamps[order]
-        repeated = np.zeros(len(ts), dtype=bool)
-        repeated[1:] = ts[1:] == ts[:-1]
-        repeated[:-1] |= repeated[1:]
-        # sort the rows of repeated stamps by (stamp, value, row) to find identical and conflicting copies
-        rows = order[repeated]
-        rows = rows[np.lexsort((rows, values[rows], stamps[rows]))]
-        ts, vs = stamps[rows], values[rows]
-        if len(rows):
-            same_time = np.concatenate([[False], ts[1:] == ts[:-1]])
-            identical = same_time & np.concatenate([[False], vs[1:] == vs[:-1]])
-            group = np.cumsum(~same_time) - 1
-            starts = np.flatnonzero(~same_time)
-            ends = np.append(starts[1:], len(ts)) - 1
-            conflicting_group = vs[ends] != vs[starts]  # values are sorted within a stamp
-            conflicting = conflicting_group[group] & ~identical
-            codes[rows[identical]] = _CODE["duplicate"]
-            codes[rows[conflicting]] = _CODE["conflicting_duplicate"]
-        u_rows = order[codes[order] == 0]
+    u_rows = _flag_duplicates(stamps, values, codes, any_out_of_order=len(out_of_order) > 0)
     ut, uv = stamps[u_rows], values[u_rows].copy()
 
     # sampling eras; each era on its own grid when its stamps lie on it (gaps as NaN rows)
@@ -425,12 +442,7 @@ def check_record(record: GaugeRecord, *, range_factor: float = 3.0, spike_k: flo
                       f"off their era's grid; those eras keep the stamps as read", ExtremesWarning, stacklevel=2)
 
     # physical range from the record's robust spread
-    q_lo, q_hi = np.quantile(uv, [0.005, 0.995])
-    spread = q_hi - q_lo
-    lower, upper = q_lo - range_factor * spread, q_hi + range_factor * spread
-    bad_range = (uv < lower) | (uv > upper)
-    codes[u_rows[bad_range]] = _CODE["out_of_range"]
-    uv[bad_range] = np.nan
+    lower, upper = _flag_out_of_range(uv, u_rows, codes, range_factor)
 
     # the working series on the eras' grids
     position = np.searchsorted(grid_times, ut)
