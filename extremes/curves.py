@@ -229,8 +229,9 @@ class ReturnLevelCurve:
     def rows(self, periods_years) -> pd.DataFrame:
         """:meth:`table` plus the curve's ``period_definition`` and ``interval_method`` on every row (the
         ``return_levels`` rows of results.json, CONTRACT.md)."""
-        return self.table(periods_years).assign(period_definition=self.period_definition,
-                                                interval_method=self.interval_method)
+        table = self.table(periods_years)
+        return table.assign(period_definition=self.period_definition, interval_method=self.interval_method,
+                            upper_unbounded=np.isposinf(table["upper_m"].to_numpy(dtype=float)))
 
     # -- persistence ------------------------------------------------------------------------------
     def to_dict(self) -> dict:

@@ -139,7 +139,7 @@ def _summary(document: dict) -> Summary:
          "Return periods are average recurrence intervals (1/rate; AEP = 1 - exp(-1/T))")
         + f"; intervals are {100 * confidence:.0f}% confidence intervals"
         + (f" ({curve['interval_method']})." if curve.get("interval_method") else ".")
-        + " An upper bound the data cannot limit is shown as a dash.")
+        + " An upper bound the data cannot limit is shown as \"unbounded\".")
     return Summary(datum=document.get("datum") or "unspecified", epoch_year=document.get("epoch_year"),
                    recommended_method=method, levels=levels, paragraphs=tuple(paragraphs),
                    assessment=assessment_of(document))

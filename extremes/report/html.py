@@ -162,7 +162,7 @@ def format_cell(value, column: str) -> str:
         return str(int(value))
     if isinstance(value, (float, np.floating)):
         if not math.isfinite(value):
-            return "–"
+            return "unbounded" if value > 0 and column.startswith("upper") else "–"
         if column.endswith("_m") or column.endswith("_m_per_year"):
             return f"{value:.3f}"
         if column.endswith("_percent"):

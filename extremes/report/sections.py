@@ -50,8 +50,12 @@ def return_levels(document: dict, method: str) -> pd.DataFrame:
     """Rows of ``return_levels`` of one method, in period order."""
     frame = pd.DataFrame(document.get("return_levels") or [],
                          columns=["method", "return_period_years", "level_m", "lower_m", "upper_m"])
+    unbounded = pd.DataFrame(document.get("return_levels") or []).get("upper_unbounded")
+    frame = frame.astype({"level_m": float, "lower_m": float, "upper_m": float})
+    if unbounded is not None:  # an upper bound the data cannot limit: null in JSON, +inf here ("unbounded")
+        frame.loc[unbounded.fillna(False).astype(bool).to_numpy(), "upper_m"] = np.inf
     frame = frame[frame["method"] == method].sort_values("return_period_years")
-    return frame.astype({"level_m": float, "lower_m": float, "upper_m": float}).reset_index(drop=True)
+    return frame.reset_index(drop=True)
 
 
 def _curve(document: dict, method: str):
@@ -222,6 +226,8 @@ def fits_section(document: dict, figures: tuple) -> Section:
 
 def _interval_text(level, lower, upper) -> str:
     def fmt(value):
+        if value is not None and np.isposinf(value):
+            return "unbounded"
         return "–" if value is None or not np.isfinite(value) else f"{value:.3f}"
 
     return f"{fmt(level)} ({fmt(lower)} to {fmt(upper)})"
@@ -234,6 +240,8 @@ def levels_by_method(document: dict, periods=None) -> pd.DataFrame:
         return frame
     if periods is not None:
         frame = frame[frame["return_period_years"].isin(list(periods))]
+    if "upper_unbounded" in frame:
+        frame.loc[frame["upper_unbounded"].fillna(False).astype(bool), "upper_m"] = np.inf
     frame = frame.assign(text=[_interval_text(*(float("nan") if v is None else v for v in values))
                                for values in frame[["level_m", "lower_m", "upper_m"]].itertuples(index=False)])
     table = frame.pivot(index="return_period_years", columns="method", values="text").reset_index()

@@ -122,3 +122,20 @@ def test_result_objects_have_dicts_and_one_line_reprs():
     assert summary.to_dict()["levels"] == [{"level_m": None}]
     for obj in (section, summary, FigureItem(TINY_PNG, "c"), TableItem(pd.DataFrame(), "t")):
         assert "\n" not in repr(obj)
+
+
+def test_an_unbounded_upper_bound_reads_unbounded():
+    # CONTRACT.md: an upper bound the data cannot limit is null in JSON and "unbounded" in tables and the report
+    from extremes.report.html import format_cell
+    from extremes.report.sections import levels_by_method, return_levels
+
+    document = {"curves": {"peaks-over-threshold": {}}, "return_levels": [
+        {"method": "peaks-over-threshold", "return_period_years": 10.0, "level_m": 5.1, "lower_m": 4.9,
+         "upper_m": 5.6, "upper_unbounded": False},
+        {"method": "peaks-over-threshold", "return_period_years": 1000.0, "level_m": 6.2, "lower_m": 5.4,
+         "upper_m": None, "upper_unbounded": True}]}
+    rows = return_levels(document, "peaks-over-threshold")
+    assert [format_cell(v, "upper_m") for v in rows["upper_m"]] == ["5.600", "unbounded"]
+    assert format_cell(float("nan"), "upper_m") == "–"  # missing stays a dash
+    table = levels_by_method(document)
+    assert table["peaks-over-threshold_m"].tolist() == ["5.100 (4.900 to 5.600)", "6.200 (5.400 to unbounded)"]
