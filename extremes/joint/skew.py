@@ -266,6 +266,140 @@ def _band_labels(values, edges):
     return np.clip(np.searchsorted(edges, values, side="right") - 1, 0, len(edges) - 2)
 
 
+def _tide_set(high_waters_m, high_water_years, notes):
+    """Predicted high waters as an array, their times (when given), the years they span and tides per year."""
+    hw_times = None
+    if isinstance(high_waters_m, pd.Series):
+        if isinstance(high_waters_m.index, pd.DatetimeIndex):
+            hw = _utc_series(high_waters_m, "high_waters_m")
+            hw_times = hw.index
+            high_waters = hw.to_numpy()
+        else:
+            high_waters = high_waters_m.to_numpy(dtype=float)
+    else:
+        high_waters = np.asarray(high_waters_m, dtype=float).ravel()
+    if high_waters.size < 100 or np.any(~np.isfinite(high_waters)):
+        raise DataError(f"high_waters_m must hold >= 100 finite predicted high waters [m]; got {high_waters.size}"
+                        f" values, {int(np.sum(~np.isfinite(high_waters)))} not finite")
+    if high_water_years is None:
+        if hw_times is not None:
+            high_water_years = (hw_times[-1] - hw_times[0]) / pd.Timedelta(days=DAYS_PER_YEAR) * \
+                high_waters.size / (high_waters.size - 1)
+        else:
+            high_water_years = NODAL_CYCLE_YEARS
+    events_per_year = high_waters.size / float(high_water_years)
+    if abs(high_water_years - NODAL_CYCLE_YEARS) > 0.5:
+        warnings.warn(f"the high-water set spans {high_water_years:.2f} years, not a full nodal cycle "
+                      f"({NODAL_CYCLE_YEARS} years)", ExtremesWarning, stacklevel=2)
+        notes.append(f"the high-water set spans {high_water_years:.2f} years, not a full nodal cycle")
+    return high_waters, hw_times, high_water_years, events_per_year
+
+
+def _skew_surge_inputs(skew_surge, skew_surge_tide_m, skew_surge_positions):
+    """Finite skew surges on a UTC index, with the predicted high water and high-water index of each (or None)."""
+    tide_of_surge, positions = None, skew_surge_positions
+    if isinstance(skew_surge, pd.DataFrame):
+        frame = skew_surge
+        if "time" in frame.columns:
+            frame = frame.set_index("time")
+        if "skew_surge_m" not in frame.columns:
+            raise DataError(f"skew_surge frame needs a 'skew_surge_m' column; got {list(frame.columns)}")
+        series = _utc_series(frame["skew_surge_m"], "skew_surge")
+        if "predicted_high_water_m" in frame.columns:
+            tide_of_surge = frame["predicted_high_water_m"].astype(float).reindex(series.index).to_numpy()
+        if positions is None and "high_water_index" in frame.columns:
+            positions = frame["high_water_index"].reindex(series.index).to_numpy()
+    else:
+        series = _utc_series(skew_surge, "skew_surge")
+        if skew_surge_tide_m is not None:
+            tide_of_surge = np.asarray(skew_surge_tide_m, dtype=float).ravel()
+            if tide_of_surge.size != len(skew_surge):
+                raise DataError(f"skew_surge_tide_m has {tide_of_surge.size} values for {len(skew_surge)} "
+                                "skew surges")
+            tide_of_surge = pd.Series(tide_of_surge, index=skew_surge.index).sort_index().to_numpy()
+    if positions is not None:
+        positions = np.asarray(positions, dtype=np.int64).ravel()
+        if positions.size != series.size:
+            raise DataError(f"skew_surge_positions has {positions.size} values for {series.size} skew surges")
+    keep = np.isfinite(series.to_numpy())
+    series = series[keep]
+    if tide_of_surge is not None:
+        tide_of_surge = tide_of_surge[keep]
+    if positions is not None:
+        positions = positions[keep]
+    return series, tide_of_surge, positions
+
+
+def _components(stratify, high_waters, hw_times, series, surge, tide_of_surge, year_ids, weights, n_bands,
+                threshold_m, notes):
+    """The convolution's components: all tides at once, tide-level bands or months."""
+    components, band_thresholds = [], {}
+    if stratify is None:
+        components.append(year_bootstrap.Component("all", high_waters, 1.0, surge, year_ids, weight=weights))
+    elif stratify == "tide-band":
+        if tide_of_surge is None or np.any(~np.isfinite(tide_of_surge)):
+            raise DataError("stratify='tide-band' needs the predicted high water of each skew surge "
+                            "(a skew_surges frame or skew_surge_tide_m)")
+        edges = np.quantile(high_waters, np.linspace(0, 1, n_bands + 1))
+        edges[0], edges[-1] = -np.inf, np.inf
+        hw_band, s_band = _band_labels(high_waters, edges), _band_labels(tide_of_surge, edges)
+        band_thresholds = _band_thresholds(surge, s_band, n_bands, threshold_m, notes)
+        for b in range(n_bands):
+            sel = s_band == b
+            components.append(year_bootstrap.Component(f"band {b + 1}", high_waters[hw_band == b],
+                                               float(np.mean(hw_band == b)), surge[sel], year_ids[sel],
+                                               weight=None if weights is None else weights[sel]))
+        notes.append(f"skew-surge distribution stratified by {n_bands} bands of predicted high water "
+                     f"(edges {', '.join(f'{e:.2f}' for e in edges[1:-1])} m)")
+    elif stratify == "month":
+        if hw_times is None:
+            raise DataError("stratify='month' needs high_waters_m as a Series indexed by UTC time")
+        hw_month, s_month = np.asarray(hw_times.month), np.asarray(series.index.month)
+        for m in range(1, 13):
+            components.append(year_bootstrap.Component(f"month {m}", high_waters[hw_month == m],
+                                               float(np.mean(hw_month == m)), surge[s_month == m],
+                                               year_ids[s_month == m]))
+        notes.append("seasonal convolution: monthly high-water sets x monthly skew-surge distributions")
+    else:
+        raise DataError(f"stratify must be None, 'tide-band' or 'month'; got {stratify!r}")
+    return components, band_thresholds
+
+
+def _clustering(clustering, high_waters, surge, times, positions, year_ids, events_per_year, notes, *, n_offsets,
+                min_exceedances, estimator, seed, theta_beyond, extremal_index, resample):
+    """The extremal-index function (or constant) and, when resampled, its per-year re-estimation."""
+    clustering_by_year = None
+    if clustering == "level":
+        if positions is None:
+            positions = positions_from_spacing(times)
+            notes.append("skew surges laid on the high-water sequence by their spacing (no high-water index given)")
+        theta_table = extremal_index_by_level(high_waters, surge, positions, n_offsets=n_offsets,
+                                              min_exceedances=min_exceedances, estimator=estimator,
+                                              block_length=spring_neap_block_length(events_per_year), seed=seed)
+        notes.append(
+            f"storm clustering: extremal index estimated as a function of total level ({estimator} estimator, "
+            f"observed skew-surge sequences on {n_offsets} shifts of the predicted tide), from "
+            f"{theta_table['theta'].iloc[0]:.2f} at {theta_table['level_m'].iloc[0]:.2f} m to "
+            f"{theta_table['theta'].iloc[-1]:.2f} at {theta_table['level_m'].iloc[-1]:.2f} m; above: "
+            + ("held" if theta_beyond == "hold" else "extended along its rising trend, capped at 1"))
+        if resample:
+            clustering_by_year = year_bootstrap.ClusteringByYear(
+                high_waters, surge, positions, year_ids, theta_table["level_m"].to_numpy(), n_offsets=n_offsets,
+                block_length=spring_neap_block_length(events_per_year), seed=seed,
+                min_exceedances=min_exceedances, beyond=theta_beyond)
+    elif clustering == "constant":
+        if extremal_index is None or not 0 < float(extremal_index) <= 1:
+            raise DataError(f"clustering='constant' needs 0 < extremal_index <= 1; got {extremal_index!r}")
+        theta_table = float(extremal_index)
+        notes.append(f"storm clustering: constant extremal index {theta_table:g}")
+    elif clustering == "none":
+        theta_table = None
+        notes.append("no storm clustering (extremal index 1; conservative)")
+    else:
+        raise DataError(f"clustering must be 'level', 'constant' or 'none'; got {clustering!r}")
+    return theta_table, clustering_by_year
+
+
 def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None,
                                  threshold_quantile=DEFAULT_THRESHOLD_QUANTILE, resample_clustering=True,
                                  bias_correction=True, interval="profile",
@@ -369,62 +503,9 @@ def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None,
         "return period = 1/(expected independent exceedance events per year); AEP = 1 - exp(-1/T)",
     ]
     diagnostics = {}
-    # -- tide set
-    hw_times = None
-    if isinstance(high_waters_m, pd.Series):
-        if isinstance(high_waters_m.index, pd.DatetimeIndex):
-            hw = _utc_series(high_waters_m, "high_waters_m")
-            hw_times = hw.index
-            high_waters = hw.to_numpy()
-        else:
-            high_waters = high_waters_m.to_numpy(dtype=float)
-    else:
-        high_waters = np.asarray(high_waters_m, dtype=float).ravel()
-    if high_waters.size < 100 or np.any(~np.isfinite(high_waters)):
-        raise DataError(f"high_waters_m must hold >= 100 finite predicted high waters [m]; got {high_waters.size}"
-                        f" values, {int(np.sum(~np.isfinite(high_waters)))} not finite")
-    if high_water_years is None:
-        if hw_times is not None:
-            high_water_years = (hw_times[-1] - hw_times[0]) / pd.Timedelta(days=DAYS_PER_YEAR) * \
-                high_waters.size / (high_waters.size - 1)
-        else:
-            high_water_years = NODAL_CYCLE_YEARS
-    events_per_year = high_waters.size / float(high_water_years)
-    if abs(high_water_years - NODAL_CYCLE_YEARS) > 0.5:
-        warnings.warn(f"the high-water set spans {high_water_years:.2f} years, not a full nodal cycle "
-                      f"({NODAL_CYCLE_YEARS} years)", ExtremesWarning, stacklevel=2)
-        notes.append(f"the high-water set spans {high_water_years:.2f} years, not a full nodal cycle")
-    # -- skew surges
-    tide_of_surge, positions = None, skew_surge_positions
-    if isinstance(skew_surge, pd.DataFrame):
-        frame = skew_surge
-        if "time" in frame.columns:
-            frame = frame.set_index("time")
-        if "skew_surge_m" not in frame.columns:
-            raise DataError(f"skew_surge frame needs a 'skew_surge_m' column; got {list(frame.columns)}")
-        series = _utc_series(frame["skew_surge_m"], "skew_surge")
-        if "predicted_high_water_m" in frame.columns:
-            tide_of_surge = frame["predicted_high_water_m"].astype(float).reindex(series.index).to_numpy()
-        if positions is None and "high_water_index" in frame.columns:
-            positions = frame["high_water_index"].reindex(series.index).to_numpy()
-    else:
-        series = _utc_series(skew_surge, "skew_surge")
-        if skew_surge_tide_m is not None:
-            tide_of_surge = np.asarray(skew_surge_tide_m, dtype=float).ravel()
-            if tide_of_surge.size != len(skew_surge):
-                raise DataError(f"skew_surge_tide_m has {tide_of_surge.size} values for {len(skew_surge)} "
-                                "skew surges")
-            tide_of_surge = pd.Series(tide_of_surge, index=skew_surge.index).sort_index().to_numpy()
-    if positions is not None:
-        positions = np.asarray(positions, dtype=np.int64).ravel()
-        if positions.size != series.size:
-            raise DataError(f"skew_surge_positions has {positions.size} values for {series.size} skew surges")
-    keep = np.isfinite(series.to_numpy())
-    series = series[keep]
-    if tide_of_surge is not None:
-        tide_of_surge = tide_of_surge[keep]
-    if positions is not None:
-        positions = positions[keep]
+    high_waters, hw_times, high_water_years, events_per_year = _tide_set(high_waters_m, high_water_years,
+                                                                          notes)
+    series, tide_of_surge, positions = _skew_surge_inputs(skew_surge, skew_surge_tide_m, skew_surge_positions)
     if series.size < 200:
         raise DataError(f"skew_surge has {series.size} finite values; need >= 200 (a few months) and "
                         "preferably >= 10 years")
@@ -451,69 +532,18 @@ def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None,
     # -- threshold and tail
     threshold_m = choose_threshold(series, threshold_m, threshold_quantile, notes, diagnostics, "skew-surge")
     year_ids, _ = year_bootstrap.check_year_ids(series.index)
-    components, band_thresholds = [], {}
-    if stratify is None:
-        components.append(year_bootstrap.Component("all", high_waters, 1.0, surge, year_ids, weight=weights))
-    elif stratify == "tide-band":
-        if tide_of_surge is None or np.any(~np.isfinite(tide_of_surge)):
-            raise DataError("stratify='tide-band' needs the predicted high water of each skew surge "
-                            "(a skew_surges frame or skew_surge_tide_m)")
-        edges = np.quantile(high_waters, np.linspace(0, 1, n_bands + 1))
-        edges[0], edges[-1] = -np.inf, np.inf
-        hw_band, s_band = _band_labels(high_waters, edges), _band_labels(tide_of_surge, edges)
-        band_thresholds = _band_thresholds(surge, s_band, n_bands, threshold_m, notes)
-        for b in range(n_bands):
-            sel = s_band == b
-            components.append(year_bootstrap.Component(f"band {b + 1}", high_waters[hw_band == b],
-                                               float(np.mean(hw_band == b)), surge[sel], year_ids[sel],
-                                               weight=None if weights is None else weights[sel]))
-        notes.append(f"skew-surge distribution stratified by {n_bands} bands of predicted high water "
-                     f"(edges {', '.join(f'{e:.2f}' for e in edges[1:-1])} m)")
-    elif stratify == "month":
-        if hw_times is None:
-            raise DataError("stratify='month' needs high_waters_m as a Series indexed by UTC time")
-        hw_month, s_month = np.asarray(hw_times.month), np.asarray(series.index.month)
-        for m in range(1, 13):
-            components.append(year_bootstrap.Component(f"month {m}", high_waters[hw_month == m],
-                                               float(np.mean(hw_month == m)), surge[s_month == m],
-                                               year_ids[s_month == m]))
-        notes.append("seasonal convolution: monthly high-water sets x monthly skew-surge distributions")
-    else:
-        raise DataError(f"stratify must be None, 'tide-band' or 'month'; got {stratify!r}")
+    components, band_thresholds = _components(stratify, high_waters, hw_times, series, surge, tide_of_surge,
+                                              year_ids, weights, n_bands, threshold_m, notes)
     for c in components:
         c.surge = year_bootstrap.fit_tail(c.surge_m, threshold_m=band_thresholds.get(c.label, threshold_m),
                                   years=record_years, method=tail_method,
                                   weights=c.weight)
     # -- clustering
-    clustering_by_year = None
-    if clustering == "level":
-        if positions is None:
-            positions = positions_from_spacing(series.index)
-            notes.append("skew surges laid on the high-water sequence by their spacing (no high-water index given)")
-        theta_table = extremal_index_by_level(high_waters, surge, positions, n_offsets=n_offsets,
-                                              min_exceedances=min_exceedances, estimator=estimator,
-                                              block_length=spring_neap_block_length(events_per_year), seed=seed)
-        notes.append(
-            f"storm clustering: extremal index estimated as a function of total level ({estimator} estimator, "
-            f"observed skew-surge sequences on {n_offsets} shifts of the predicted tide), from "
-            f"{theta_table['theta'].iloc[0]:.2f} at {theta_table['level_m'].iloc[0]:.2f} m to "
-            f"{theta_table['theta'].iloc[-1]:.2f} at {theta_table['level_m'].iloc[-1]:.2f} m; above: "
-            + ("held" if theta_beyond == "hold" else "extended along its rising trend, capped at 1"))
-        if resample_clustering and estimator == "blocks" and n_bootstrap:
-            clustering_by_year = year_bootstrap.ClusteringByYear(
-                high_waters, surge, positions, year_ids, theta_table["level_m"].to_numpy(), n_offsets=n_offsets,
-                block_length=spring_neap_block_length(events_per_year), seed=seed,
-                min_exceedances=min_exceedances, beyond=theta_beyond)
-    elif clustering == "constant":
-        if extremal_index is None or not 0 < float(extremal_index) <= 1:
-            raise DataError(f"clustering='constant' needs 0 < extremal_index <= 1; got {extremal_index!r}")
-        theta_table = float(extremal_index)
-        notes.append(f"storm clustering: constant extremal index {theta_table:g}")
-    elif clustering == "none":
-        theta_table = None
-        notes.append("no storm clustering (extremal index 1; conservative)")
-    else:
-        raise DataError(f"clustering must be 'level', 'constant' or 'none'; got {clustering!r}")
+    theta_table, clustering_by_year = _clustering(
+        clustering, high_waters, surge, series.index, positions, year_ids, events_per_year, notes,
+        n_offsets=n_offsets, min_exceedances=min_exceedances, estimator=estimator, seed=seed,
+        theta_beyond=theta_beyond, extremal_index=extremal_index,
+        resample=resample_clustering and estimator == "blocks" and bool(n_bootstrap))
     held = "re-estimated" if clustering_by_year is not None else "held"
     fixed_rule = threshold_quantile is not None or threshold_m is not None
     if interval not in ("profile", "bootstrap"):
