@@ -7,7 +7,7 @@ from __future__ import annotations
 
 __all__ = [
     "NODAL_CYCLE_YEARS", "DAYS_PER_YEAR", "HOURS_PER_YEAR", "TROPICAL_YEAR_DAYS", "DEFAULT_SEED",
-    "DEFAULT_PERIODS_YEARS", "DEFAULT_SLR_M", "UNIT_TO_METRES", "DEFAULT_CONFIDENCE",
+    "DEFAULT_PERIODS_YEARS", "DEFAULT_SLR_M", "UNIT_TO_METRES", "DEFAULT_CONFIDENCE", "SHAPE_EPS", "EULER_GAMMA",
 ]
 
 #: Period of the regression of the moon's ascending node (the lunar nodal cycle) [years]. 360 deg divided by
@@ -37,3 +37,9 @@ DEFAULT_CONFIDENCE = 0.95
 
 #: Factor that turns a level in these units into metres (1 ft = 0.3048 m exactly, the international foot).
 UNIT_TO_METRES = {"m": 1.0, "cm": 0.01, "mm": 0.001, "ft": 0.3048}
+
+#: |shape| below which the GEV/GPD formulas take their shape-zero (Gumbel/exponential) branch (METHODS sec. 9).
+SHAPE_EPS = 1e-6
+
+#: Euler-Mascheroni constant (Gumbel mean = location + EULER_GAMMA x scale).
+EULER_GAMMA = 0.5772156649015329

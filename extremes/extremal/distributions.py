@@ -27,8 +27,8 @@ import math
 from dataclasses import dataclass, field
 
 import numpy as np
-from scipy import special
 
+from extremes.constants import EULER_GAMMA, SHAPE_EPS  # noqa: F401 (shape-zero branch; re-exported)
 from extremes.errors import DataError
 from extremes.extremal.gpd_mle import fit_gpd_many  # the one GPD maximum-likelihood fitter
 
@@ -39,8 +39,6 @@ FIT_METHODS = ("mle", "lmoments")
 #: models for annual maxima (the ``extremes fit --model`` choices)
 MODELS = ("gev", "gumbel")
 #: below this |shape| the Gumbel / exponential limit formulas are used (METHODS.md sec. 9)
-SHAPE_EPS = 1e-6
-EULER_GAMMA = 0.5772156649015329
 
 
 def _to_scipy_shape(shape, family="genextreme"):
@@ -405,82 +403,6 @@ def _gpd_nll_grad(y, scale, shape):
 
 
 # ----------------------------------------------------------------------------------------------------------
-# batched damped Newton minimiser
-# ----------------------------------------------------------------------------------------------------------
-# ----------------------------------------------------------------------------------------------------------
-# L-moments
-# ----------------------------------------------------------------------------------------------------------
-def sample_lmoments(data):
-    r"""Sample L-moments l1, l2 and ratios t3, t4 from unbiased probability-weighted moments [2]_.
-
-    Parameters
-    ----------
-    data : array-like
-        Sample, or 2-D array with samples along the last axis.
-
-    Returns
-    -------
-    numpy.ndarray
-        (..., 4): l1 [m], l2 [m], t3 [-], t4 [-].
-    """
-    x = np.sort(np.asarray(data, dtype=float), axis=-1)
-    n = x.shape[-1]
-    j = np.arange(1, n + 1, dtype=float)
-    b0 = x.mean(axis=-1)
-    b1 = np.sum((j - 1) / (n - 1) * x, axis=-1) / n
-    b2 = np.sum((j - 1) * (j - 2) / ((n - 1) * (n - 2)) * x, axis=-1) / n
-    b3 = np.sum((j - 1) * (j - 2) * (j - 3) / ((n - 1) * (n - 2) * (n - 3)) * x, axis=-1) / n if n > 3 else b2 * np.nan
-    l1 = b0
-    l2 = 2 * b1 - b0
-    l3 = 6 * b2 - 6 * b1 + b0
-    l4 = 20 * b3 - 30 * b2 + 12 * b1 - b0
-    return np.stack([l1, l2, l3 / l2, l4 / l2], axis=-1)
-
-
-def _gev_t3(k):
-    """GEV L-skewness as a function of Hosking's k = -shape (limit ln(9/8)/ln 2 ... at k = 0)."""
-    k = np.asarray(k, dtype=float)
-    small = np.abs(k) < 1e-8
-    kk = np.where(small, 1e-8, k)
-    ratio = np.expm1(-kk * np.log(3.0)) / np.expm1(-kk * np.log(2.0))
-    return 2 * ratio - 3
-
-
-def gev_lmoment_parameters(l1, l2, t3, *, exact=True):
-    r"""GEV parameters from L-moments [3]_ (textbook shape = -k).
-
-    ``k ≈ 7.8590c + 2.9554c²``, ``c = 2/(3 + t3) - ln2/ln3``; with ``exact=True`` (default) k is then polished
-    by Newton steps on ``t3 = 2(1 - 3^-k)/(1 - 2^-k) - 3``. α = l2·k/[(1 - 2^-k)Γ(1 + k)],
-    location = l1 + α[Γ(1 + k) - 1]/k.
-
-    Returns
-    -------
-    tuple of numpy.ndarray
-        (loc [m], scale [m], shape [-]).
-    """
-    l1, l2, t3 = (np.asarray(a, dtype=float) for a in (l1, l2, t3))
-    c = 2.0 / (3.0 + t3) - math.log(2) / math.log(3)
-    k = 7.8590 * c + 2.9554 * c * c
-    if exact:
-        k = np.clip(k, -0.99, 5.0)
-        for _ in range(30):
-            h = 1e-6
-            f = _gev_t3(k) - t3
-            df = (_gev_t3(k + h) - _gev_t3(k - h)) / (2 * h)
-            k_new = np.clip(k - f / df, -0.999, 10.0)
-            if np.all(np.abs(k_new - k) < 1e-13):
-                k = k_new
-                break
-            k = k_new
-    small = np.abs(k) < SHAPE_EPS
-    ks = np.where(small, 1.0, k)
-    g = special.gamma(1 + ks)
-    alpha = np.where(small, l2 / math.log(2), l2 * ks / (-np.expm1(-ks * math.log(2)) * g))
-    loc = np.where(small, l1 - EULER_GAMMA * alpha, l1 + alpha * (g - 1) / ks)
-    return loc[()], alpha[()], (-k)[()]
-
-
-# ----------------------------------------------------------------------------------------------------------
 # fit objects
 # ----------------------------------------------------------------------------------------------------------
 def _fmt(x):
@@ -669,6 +591,7 @@ from extremes.extremal.fitting import (  # noqa: E402, F401
     fit_gpd,
     fit_gumbel,
 )
+from extremes.extremal.lmoments import _gev_t3, gev_lmoment_parameters, sample_lmoments  # noqa: E402,F401
 
 __all__ = [
     "FIT_METHODS", "MODELS", "GEVFit", "GPDFit", "fit_gev", "fit_gumbel", "fit_gpd", "fit_exponential",

@@ -33,14 +33,13 @@ from extremes.extremal.distributions import (
     _gpd_nll_terms,
     _rlargest_nll,
     exponential_loglik,
-    gev_lmoment_parameters,
     gev_loglik,
     gev_quantile,
     gpd_loglik,
     gumbel_loglik,
-    sample_lmoments,
 )
 from extremes.extremal.gpd_mle import fit_gpd_many
+from extremes.extremal.lmoments import gev_lmoment_parameters, sample_lmoments
 
 logger = logging.getLogger(__name__)
 
