@@ -37,7 +37,7 @@ from extremes import __version__
 from extremes.constants import DAYS_PER_YEAR, NODAL_CYCLE_YEARS
 from extremes.errors import DataError, ExtremesError, ExtremesWarning
 from extremes.study_options import StudyOptions, load_study_file
-from extremes.timebase import sampling_interval, timestamp_of_decimal_year  # noqa: F401 (re-exported)
+from extremes.timebase import sampling_interval
 
 logger = logging.getLogger(__name__)
 

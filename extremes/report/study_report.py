@@ -75,12 +75,12 @@ def _methods_figure(result, figures):
 
 def _scenario_figure(result, figures):
     slr = result.sea_level_rise
-    scenarios = slr["scenarios"]
+    scenarios = slr.scenarios
     epoch = result.epoch_year
-    years = np.arange(0, slr["design_life_years"] + 1) + epoch
+    years = np.arange(0, slr.design_life_years + 1) + epoch
     rises = {name: np.asarray(scenarios.rise_since(name, years, reference_year=epoch), dtype=float)
              for name in scenarios.names}
-    return figures.sea_level_rise_figure(result.curves[slr["method"]], years=years, rise_m=rises)
+    return figures.sea_level_rise_figure(result.curves[slr.method], years=years, rise_m=rises)
 
 
 def figure_jobs(result, document: dict) -> list[tuple[str, Callable]]:
@@ -103,7 +103,7 @@ def figure_jobs(result, document: dict) -> list[tuple[str, Callable]]:
         ("methods", lambda: _methods_figure(result, figures)),
         ("sea_level_rise", lambda: sea_level_rise_figure_of(document)),
     ]
-    if result.sea_level_rise.get("scenario_results"):
+    if result.sea_level_rise.scenario_results:
         jobs.append(("sea_level_rise_scenarios", lambda: _scenario_figure(result, figures)))
     return jobs
 

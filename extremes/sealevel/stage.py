@@ -84,17 +84,6 @@ class SeaLevelRiseAssessment:
         return (f"SeaLevelRiseAssessment(method={self.method!r}, offsets={len(self.by_offset)}, "
                 f"life={self.design_life_years} years)")
 
-    def __getitem__(self, key: str):
-        """Mapping access to the attributes (``assessment["rows"]``), as the study's earlier dictionary."""
-        try:
-            return getattr(self, key)
-        except AttributeError:
-            raise KeyError(key) from None
-
-    def get(self, key: str, default=None):
-        """Mapping-style access with a default."""
-        return getattr(self, key, default)
-
     def details_dict(self) -> dict:
         """The ``sea_level_rise_details`` object of results.json."""
         return {
