@@ -36,18 +36,25 @@ class Component:
     weight: np.ndarray | None = None  # weight of each surge value (seasonal coverage), mean 1; None: equal
 
 
+#: tail fits by likelihood and the shape prior of each (the rest: L-moments)
+SHAPE_PRIOR_OF = {"mle": None, "gml": "geophysical"}
+
+
 def fit_tail(surge_m, *, threshold_m, years, method="mle", weights=None) -> SurgeDistribution:
     """Empirical body + GPD tail fitted to all exceedances of ``threshold_m`` (marginal tail).
 
-    With ``weights`` (one per value): weighted empirical body (represented by the weighted quantiles at
-    ``(i + 0.5)/n``), weighted tail probability and weighted maximum-likelihood GPD
+    ``method``: ``"mle"`` (maximum likelihood), ``"gml"`` (generalized maximum likelihood: the geophysical
+    shape prior of :func:`extremes.extremal.gpd_mle.shape_log_prior`) or ``"lmoments"``. With ``weights``
+    (one per value): weighted empirical body (represented by the weighted quantiles at ``(i + 0.5)/n``),
+    weighted tail probability and weighted (generalized) maximum-likelihood GPD
     (:func:`extremes.extremal.gpd_mle.fit_gpd_many`).
     """
     from extremes.extremal import distributions
 
     x = np.asarray(surge_m, dtype=float)
-    if weights is not None:
-        return _fit_tail_weighted(x, np.asarray(weights, dtype=float), threshold_m)
+    if weights is not None or method == "gml":
+        w = np.ones_like(x) if weights is None else np.asarray(weights, dtype=float)
+        return _fit_tail_weighted(x, w, threshold_m, shape_prior=SHAPE_PRIOR_OF.get(method))
     exc = x[x > threshold_m]
     if exc.size < 10:
         raise FitError(f"only {exc.size} surge values exceed the threshold {threshold_m:.3f} m; "
@@ -58,7 +65,7 @@ def fit_tail(surge_m, *, threshold_m, years, method="mle", weights=None) -> Surg
     return SurgeDistribution(x, threshold_m, exc.size / x.size, fit.scale, fit.shape)
 
 
-def _fit_tail_weighted(x, w, threshold_m) -> SurgeDistribution:
+def _fit_tail_weighted(x, w, threshold_m, shape_prior=None) -> SurgeDistribution:
     order = np.argsort(x, kind="stable")
     xs, ws = x[order], w[order]
     exc = xs > threshold_m
@@ -67,7 +74,8 @@ def _fit_tail_weighted(x, w, threshold_m) -> SurgeDistribution:
                        "need >= 10 for a GPD tail (lower the threshold)")
     cum = np.cumsum(ws) / ws.sum()
     body = xs[np.minimum(np.searchsorted(cum, (np.arange(xs.size) + 0.5) / xs.size), xs.size - 1)]
-    scale, shape = gpd_mle.fit_gpd_many(xs[exc] - threshold_m, weights=ws[exc][None, :])[0][0]
+    scale, shape = gpd_mle.fit_gpd_many(xs[exc] - threshold_m, weights=ws[exc][None, :],
+                                        shape_prior=shape_prior)[0][0]
     if not np.isfinite(scale):
         raise FitError("the weighted GPD fit of the surge tail failed")
     return SurgeDistribution(body, threshold_m, float(ws[exc].sum() / ws.sum()), float(scale), float(shape))
@@ -115,8 +123,8 @@ def component_rates(component, *, z0, nz, h, events_per_year, year_draws=None, m
     n_exc = exc_counts.sum(axis=1)
     params = np.full((counts.shape[0], 2), np.nan)
     enough = n_exc >= 10
-    if method == "mle":
-        params[enough] = gpd_mle.fit_gpd_many(y, weights=exc_counts[enough])[0]
+    if method in SHAPE_PRIOR_OF:
+        params[enough] = gpd_mle.fit_gpd_many(y, weights=exc_counts[enough], shape_prior=SHAPE_PRIOR_OF[method])[0]
     else:
         w = exc_counts[enough] / n_exc[enough, None]
         ys = np.sort(y)
