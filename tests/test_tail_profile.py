@@ -119,7 +119,7 @@ def test_skew_surge_result_states_its_interval_method_and_sensitivity():
     assert "re-estimated" in res.curve.interval_method
     assert res.curve.to_dict()["interval_method"] == res.curve.interval_method
     table = pd.DataFrame(res.diagnostics["threshold_sensitivity"])
-    assert list(table["quantile"]) == [0.95, 0.97, 0.98, 0.99, 0.995]
+    assert list(table["quantile"]) == [0.95, 0.97, 0.98, 0.985, 0.99, 0.995]
     ok = np.isfinite(res.curve.level_m)
     assert np.all(res.curve.lower_m[ok] <= res.curve.level_m[ok] + 1e-9)
     assert np.all(res.curve.upper_m[ok] >= res.curve.level_m[ok] - 1e-9)

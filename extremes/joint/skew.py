@@ -45,12 +45,19 @@ __all__ = ["skew_surge_joint_probability", "NODAL_CYCLE_YEARS", "DAYS_PER_YEAR",
 
 #: quantile of skew surge used as the tail threshold by default: a fixed rule, so that the choice does not
 #: depend on the tail estimates it precedes (a data-driven stability rule picks high thresholds exactly in the
-#: samples whose high-threshold shape comes out low, which biased the intervals low; benchmarks/bench_coverage.py)
-DEFAULT_THRESHOLD_QUANTILE = 0.99
+#: samples whose high-threshold shape comes out low, which biased the intervals low; benchmarks/bench_coverage.py:
+#: 0.985 gave the narrowest intervals of 0.98 / 0.985 / 0.99 at the same coverage, 0.98 a 100-year bias of +2.6 %)
+DEFAULT_THRESHOLD_QUANTILE = 0.985
 #: fewest exceedances the quantile rule leaves (a short record gets a lower quantile)
 MIN_TAIL_EXCEEDANCES = 50
 #: thresholds (quantiles of skew surge) of the sensitivity table in ``diagnostics["threshold_sensitivity"]``
-SENSITIVITY_QUANTILES = (0.95, 0.97, 0.98, 0.99, 0.995)
+SENSITIVITY_QUANTILES = (0.95, 0.97, 0.98, 0.985, 0.99, 0.995)
+
+
+#: words for each tail fit (``tail_method``) in the interval method of results.json and the report
+TAIL_FIT_WORDS = {"gml": "GPD tail by generalized maximum likelihood, geophysical shape prior (Martins & "
+                         "Stedinger 2001)",
+                  "mle": "GPD tail by maximum likelihood", "lmoments": "GPD tail by L-moments"}
 
 
 def _utc_series(values, name):
@@ -111,7 +118,7 @@ def assemble(method, components, *, events_per_year, theta_table, year_ids, peri
                                                       estimate=level_u if bias_correction else None)
         if interval == "profile":
             lo_c, hi_c = _profile_interval(components, theta_of_z, events_per_year, periods, level_c, boot_c,
-                                           confidence, diagnostics, lo_c, hi_c)
+                                           confidence, diagnostics, lo_c, hi_c, tail_method=tail_method)
         failed = np.all(np.isnan(boot_c), axis=1)
         diagnostics["bootstrap_resamples_used"] = int(np.sum(~failed))
         diagnostics["bootstrap_resamples_failed"] = int(np.sum(failed))
@@ -148,7 +155,7 @@ PROFILE_MIN_PERIOD_YEARS = 2.0
 
 
 def _profile_interval(components, theta_of_z, events_per_year, periods, level_c, boot_c, confidence,
-                      diagnostics, lo_boot, hi_boot):
+                      diagnostics, lo_boot, hi_boot, *, tail_method="mle"):
     """Chandler-Bate adjusted profile-likelihood bounds at the coarse periods from PROFILE_MIN_PERIOD_YEARS,
     interpolated in log period; the bootstrap bounds below."""
     from extremes.extremal.direct import PROFILE_PERIODS_YEARS, interp_log_period
@@ -161,12 +168,14 @@ def _profile_interval(components, theta_of_z, events_per_year, periods, level_c,
                     + ([periods.size - 1] if periods[-1] >= PROFILE_MIN_PERIOD_YEARS else []))
     if idx.size < 2:
         return lo_c, hi_c
-    loglik_hat = float(tail_profile._Problem(c, theta_of_z=theta_of_z, events_per_year=events_per_year).loglik(
+    prior = year_bootstrap.SHAPE_PRIOR_OF[tail_method]
+    loglik_hat = float(tail_profile._Problem(c, theta_of_z=theta_of_z, events_per_year=events_per_year,
+                                             shape_prior=prior).loglik(
         np.array([[c.surge.scale_m]]), np.array([[c.surge.shape]]))[0, 0])
     lo, hi, adjustment = tail_profile.adjusted_profile_bounds(
         c, theta_of_z=theta_of_z, events_per_year=events_per_year, periods_years=periods[idx],
         level_m=level_c[idx], loglik_hat=loglik_hat, scale_hat=c.surge.scale_m, shape_hat=c.surge.shape,
-        bootstrap_levels=boot_c[:, idx], confidence=confidence)
+        bootstrap_levels=boot_c[:, idx], confidence=confidence, shape_prior=prior)
     diagnostics["profile_deviance_adjustment"] = {f"{t:g}": (None if not np.isfinite(a) else float(a))
                                                   for t, a in zip(periods[idx], adjustment)}
     logp = np.log(periods)
@@ -403,7 +412,7 @@ def _clustering(clustering, high_waters, surge, times, positions, year_ids, even
 def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None,
                                  threshold_quantile=DEFAULT_THRESHOLD_QUANTILE, resample_clustering=True,
                                  bias_correction=True, interval="profile",
-                                 tail_method="mle", clustering="level", extremal_index=None, n_offsets=32,
+                                 tail_method="gml", clustering="level", extremal_index=None, n_offsets=32,
                                  min_exceedances=10, estimator="blocks", theta_beyond="trend", stratify=None, n_bands=3,
                                  skew_surge_tide_m=None, skew_surge_positions=None, interaction=None,
                                  month_weighting="auto", n_bootstrap=1000, confidence=0.95,
@@ -440,8 +449,12 @@ def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None,
     bias_correction : bool
         Bootstrap intervals only: bias-corrected percentile interval (default) [3]_ sec. 14.3, or the plain
         percentile interval (the previous behaviour).
-    tail_method : {"mle", "lmoments"}
-        Fit of the GPD tail (all exceedances of the threshold).
+    tail_method : {"gml", "mle", "lmoments"}
+        Fit of the GPD tail (all exceedances of the threshold): ``gml`` (default) generalized maximum likelihood
+        with the geophysical shape prior of Martins & Stedinger (2001) (Beta(6, 9) on ξ in (-0.5, 0.5):
+        :func:`extremes.extremal.gpd_mle.shape_log_prior`), which keeps a heavy or bounded shape estimate of
+        one record from running away (benchmarks/bench_coverage.py); ``mle`` plain maximum likelihood;
+        ``lmoments`` L-moments (bootstrap interval only).
     clustering : {"level", "constant", "none"}
         ``level``: extremal index as a function of level (:mod:`extremes.joint.clustering`);
         ``constant``: the given ``extremal_index`` at every level; ``none``: :math:`\theta = 1`.
@@ -529,6 +542,8 @@ def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None,
             notes.append(msg)
     # -- seasonal coverage
     weights = _month_weights(series.index, events_per_year, month_weighting, stratify, notes, diagnostics)
+    if tail_method not in TAIL_FIT_WORDS:
+        raise DataError(f"tail_method must be one of {sorted(TAIL_FIT_WORDS)}; got {tail_method!r}")
     # -- threshold and tail
     threshold_m = choose_threshold(series, threshold_m, threshold_quantile, notes, diagnostics, "skew-surge")
     year_ids, _ = year_bootstrap.check_year_ids(series.index)
@@ -548,20 +563,22 @@ def skew_surge_joint_probability(high_waters_m, skew_surge, *, threshold_m=None,
     fixed_rule = threshold_quantile is not None or threshold_m is not None
     if interval not in ("profile", "bootstrap"):
         raise DataError(f"interval must be 'profile' or 'bootstrap'; got {interval!r}")
-    use_profile = (interval == "profile" and len(components) == 1 and tail_method == "mle"
+    use_profile = (interval == "profile" and len(components) == 1 and tail_method in year_bootstrap.SHAPE_PRIOR_OF
                    and components[0].weight is None)
     threshold_words = "by a fixed rule" if fixed_rule else "by the stability rule, held"
     if use_profile:
-        interval_method = (f"profile likelihood of the return level (GPD tail), deviance adjusted for storm "
-                           f"clustering (Chandler & Bate 2007) to the variance of a bootstrap of whole years "
+        interval_method = (f"profile likelihood of the return level ({TAIL_FIT_WORDS[tail_method]}), deviance "
+                           f"adjusted for storm clustering (Chandler & Bate 2007) to the larger of the sandwich "
+                           f"variance with years as clusters and the variance of a bootstrap of whole years "
                            f"({n_bootstrap} resamples; tail, exceedance probability and extremal index "
-                           f"re-estimated in each; below {PROFILE_MIN_PERIOD_YEARS:g} years its bias-corrected "
-                           f"percentile interval); threshold {threshold_words}")
+                           f"re-estimated in each; below {PROFILE_MIN_PERIOD_YEARS:g} years, and where the tail "
+                           f"carries under a tenth of the variance, its bias-corrected percentile interval); "
+                           f"threshold {threshold_words}")
     else:
         interval_method = (("bias-corrected " if bias_correction else "")
                            + f"percentile bootstrap of whole years of skew surge ({n_bootstrap} resamples; tail "
-                           f"and exceedance probability refitted and extremal index {held} in each; threshold "
-                           f"{threshold_words})")
+                           f"({TAIL_FIT_WORDS[tail_method]}) and exceedance probability refitted and extremal "
+                           f"index {held} in each; threshold {threshold_words})")
     return assemble("skew-surge-joint-probability", components, events_per_year=events_per_year,
                     theta_table=theta_table, year_ids=year_ids, periods_years=periods_years,
                     n_bootstrap=n_bootstrap, confidence=confidence, seed=seed, grid_step_m=grid_step_m,

@@ -33,8 +33,15 @@ logger = logging.getLogger(__name__)
 
 __all__ = ["adjusted_profile_bounds"]
 
-#: shapes of the inner maximisation (the profile follows the curve E(z; σ(ξ), ξ) = 1/T over this grid)
+#: shapes of the inner maximisation (the profile follows the curve E(z; σ(ξ), ξ) = 1/T over this grid): plain
+#: likelihood, and with the geophysical shape prior (which is zero outside (-0.5, 0.5))
 _SHAPE_GRID = np.linspace(-0.6, 1.2, 19)
+_PRIOR_SHAPE_GRID = np.linspace(-0.495, 0.495, 19)
+
+#: smallest deviance scaling given a profile interval: below it the tail parameters carry less than a tenth of
+#: the level's clustered variance (the exceedance probability and the extremal index carry the rest, near the
+#: threshold), which the profile of the tail likelihood does not describe; the bootstrap interval is kept there
+MIN_PROFILE_ADJUSTMENT = 0.1
 
 
 def _tide_bins(tide_m, h=0.01):
@@ -59,8 +66,10 @@ def _gpd_sf(y, scale, shape):
 class _Problem:
     """The constraint and likelihood pieces of one tail (one component with all its exceedances)."""
 
-    def __init__(self, component, *, theta_of_z, events_per_year):
+    def __init__(self, component, *, theta_of_z, events_per_year, shape_prior=None):
         c = component
+        self.shape_prior = shape_prior
+        self.shape_grid = _SHAPE_GRID if shape_prior is None else _PRIOR_SHAPE_GRID
         self.u = c.surge.threshold_m
         self.p_u = c.surge.tail_probability
         x = np.sort(c.surge_m)
@@ -87,11 +96,15 @@ class _Problem:
         return (self.factor * self.theta_of_z(z))[:, None] * self.p_u * np.sum(tail * self.tide_w, axis=2)
 
     def loglik(self, scale, shape):
-        """GPD log-likelihood of the exceedances at parameters (P, G)."""
+        """GPD log-likelihood of the exceedances at parameters (P, G) (plus the log shape prior, if any)."""
         from extremes.extremal.distributions import _gpd_nll_terms
 
         terms = _gpd_nll_terms(self.y[None, None, :], scale[..., None], shape[..., None])
-        return -np.sum(terms, axis=-1)
+        if self.shape_prior is None:
+            return -np.sum(terms, axis=-1)
+        from extremes.extremal.gpd_mle import shape_log_prior
+
+        return -np.sum(terms, axis=-1) + shape_log_prior(shape)
 
     def _scale_for(self, z, need, shape):
         """Scale σ [m] (P,) with tail rate ``need`` at level z for each shape (P,); NaN where none."""
@@ -119,10 +132,11 @@ class _Problem:
         the likelihood along E(z; σ(ξ), ξ) = 1/T (a grid brackets it, scipy's vectorised minimiser closes it)."""
         from scipy.optimize import elementwise
 
-        P, G = z.size, _SHAPE_GRID.size
+        grid = self.shape_grid
+        P, G = z.size, grid.size
         need = target - self.body_rate(z)  # what the tail must supply
         zz, nn = np.repeat(z, G), np.repeat(need, G)
-        ll = self._loglik_on_curve(zz, nn, np.tile(_SHAPE_GRID, P)).reshape(P, G)
+        ll = self._loglik_on_curve(zz, nn, np.tile(grid, P)).reshape(P, G)
         k = np.argmax(ll, axis=1)
         best = ll[np.arange(P), k]
         inner = (k > 0) & (k < G - 1) & np.isfinite(best)
@@ -134,23 +148,26 @@ class _Problem:
                 return np.where(np.isfinite(value), value, 1e300)
 
             res = elementwise.find_minimum(
-                negative, (_SHAPE_GRID[k[i] - 1], _SHAPE_GRID[k[i]], _SHAPE_GRID[k[i] + 1]),
+                negative, (grid[k[i] - 1], grid[k[i]], grid[k[i] + 1]),
                 args=(np.arange(i.size, dtype=float),), tolerances=dict(xatol=1e-6, xrtol=0.0))
             found = -res.f_x
             best[i] = np.where(np.isfinite(found) & (found > best[i]), found, best[i])
         # the maximum at the heaviest shape allowed: the likelihood would still rise beyond it, so the data do
-        # not limit this level (the caller treats it as inside the interval)
+        # not limit this level (the caller treats it as inside the interval); with the shape prior the profile
+        # falls to -inf at the prior's end, so the maximum on the grid is the profile
+        if self.shape_prior is not None:
+            return best
         return np.where((k == G - 1) & np.isfinite(best), np.nan, best)
 
 
 def adjusted_profile_bounds(component, *, theta_of_z, events_per_year, periods_years, level_m, loglik_hat,
-                            scale_hat, shape_hat, bootstrap_levels, confidence, adjustment=None):
+                            scale_hat, shape_hat, bootstrap_levels, confidence, adjustment=None, shape_prior=None):
     """Chandler-Bate adjusted profile-likelihood bounds of the return levels (module docstring).
 
     Parameters
     ----------
     component : extremes.joint.year_bootstrap.Component
-        The tide set and the skew surges with their fitted tail (``surge``).
+        The tide set and the skew surges with their fitted tail (``surge``) and the year of each.
     theta_of_z : callable
         Extremal index as a function of level (held at the estimate).
     events_per_year : float
@@ -160,53 +177,44 @@ def adjusted_profile_bounds(component, *, theta_of_z, events_per_year, periods_y
     level_m : numpy.ndarray
         Estimated return levels at those periods. [m]
     loglik_hat, scale_hat, shape_hat : float
-        Maximised GPD log-likelihood and its estimates.
+        Maximised GPD log-likelihood (with the log prior, if any) and its estimates.
     bootstrap_levels : numpy.ndarray, shape (B, P)
         Whole-year bootstrap levels at the periods (+inf above the grid, NaN failed).
     confidence : float
         Interval level.
     adjustment : float, optional
-        A given deviance scaling instead of :math:`v_I/v_B` (1: the plain profile likelihood).
+        A given deviance scaling instead of :math:`v_I/v_C` (1: the plain profile likelihood).
+    shape_prior : {None, "geophysical"}
+        The shape prior of a generalized maximum likelihood tail (:mod:`extremes.extremal.gpd_mle`).
 
     Returns
     -------
     lower, upper, adjustment : numpy.ndarray
-        Bounds [m] (+inf where the upper bound is unbounded, NaN where not found) and the deviance scaling
-        :math:`v_I/v_B` per period.
+        Bounds [m] (+inf where the upper bound is unbounded, NaN where not found or where the scaling is below
+        :data:`MIN_PROFILE_ADJUSTMENT`) and the deviance scaling :math:`v_I/v_C` per period.
     """
-    prob = _Problem(component, theta_of_z=theta_of_z, events_per_year=events_per_year)
+    prob = _Problem(component, theta_of_z=theta_of_z, events_per_year=events_per_year, shape_prior=shape_prior)
     periods = np.asarray(periods_years, dtype=float)
     target = 1.0 / periods
     z_hat = np.asarray(level_m, dtype=float)
-    # variance of z from the independence likelihood: delta method with the observed information
-    from extremes.extremal.distributions import _gpd_cov
-
-    cov = _gpd_cov(prob.y, scale_hat, shape_hat)
-    grad = _level_gradient(prob, z_hat, target, scale_hat, shape_hat)
-    v_ind = np.einsum("pi,ij,pj->p", grad, cov, grad)
-    with np.errstate(invalid="ignore"):
-        q25, q75 = np.nanquantile(np.where(np.isinf(bootstrap_levels), np.nan, bootstrap_levels), [0.25, 0.75],
-                                  axis=0) if np.isfinite(bootstrap_levels).any() else (np.nan, np.nan)
-    # robust bootstrap spread; resamples above the grid (+inf) sit above q75 unless they are a quarter
-    v_boot = ((q75 - q25) / (2 * special.ndtri(0.75))) ** 2
+    v_ind, v_clustered = level_variances(prob, component, z_hat, target, scale_hat, shape_hat, bootstrap_levels)
     if adjustment is None:
-        adjustment = np.where(np.isfinite(v_ind) & (v_ind > 0) & np.isfinite(v_boot) & (v_boot > 0),
-                              np.minimum(1.0, v_ind / v_boot), np.nan)
+        adjustment = np.where(np.isfinite(v_ind) & (v_ind > 0) & np.isfinite(v_clustered) & (v_clustered > 0),
+                              np.minimum(1.0, v_ind / v_clustered), np.nan)
+        profiled = adjustment >= MIN_PROFILE_ADJUSTMENT
     else:
         adjustment = np.full(periods.size, float(adjustment))
+        profiled = np.ones(periods.size, dtype=bool)
     crit = special.chdtri(1, 1 - confidence)
-    usable = np.isfinite(z_hat) & np.isfinite(adjustment)
     lower = np.full(periods.size, np.nan)
     upper = np.full(periods.size, np.nan)
-    idx = np.flatnonzero(usable)
+    idx = np.flatnonzero(np.isfinite(z_hat) & np.isfinite(adjustment) & profiled)
     if idx.size == 0:
         return lower, upper, adjustment
     K = idx.size
     side = np.concatenate([-np.ones(K), np.ones(K)])
-    zz = np.tile(z_hat[idx], 2)
     tt = np.tile(target[idx], 2)
     kk = np.tile(adjustment[idx], 2)
-    se = np.sqrt(np.tile(v_boot[idx], 2))
 
     def deviance(z, rows):
         with np.errstate(invalid="ignore"):
@@ -215,43 +223,129 @@ def adjusted_profile_bounds(component, *, theta_of_z, events_per_year, periods_y
             return np.where(np.isnan(ll), -crit, kk[rows] * 2.0 * (loglik_hat - ll) - crit)
 
     with np.errstate(all="ignore"):
-        bounds = _roots(deviance, zz, side, se)
+        bounds = _roots(deviance, np.tile(z_hat[idx], 2), side, np.sqrt(np.tile(v_clustered[idx], 2)), crit=crit)
     lower[idx], upper[idx] = bounds[:K], bounds[K:]
     return lower, upper, adjustment
 
 
-def _roots(deviance, z_hat, side, se, *, tolerance_m=5e-4, max_doublings=30):
-    """Where the adjusted deviance crosses the cut on each side of the estimate: brackets by doubling steps
-    from the estimate (+inf for an upper side still below the cut after ``max_doublings``), then scipy's
-    vectorised bracketing root finder (:func:`scipy.optimize.elementwise.find_root`) to ``tolerance_m``."""
-    from scipy.optimize import elementwise
+def level_variances(prob, component, z_hat, target, scale, shape, bootstrap_levels):
+    r"""Variance of the levels from the independence likelihood, and the clustered variance.
 
+    The independence variance :math:`v_I = \nabla z^\top H^{-1} \nabla z` uses the observed information H of
+    the (penalised) log-likelihood. The clustered variance :math:`v_C` is the larger of (a) the sandwich
+    variance with the years as clusters, :math:`\nabla z^\top H^{-1} V H^{-1} \nabla z` with
+    :math:`V = \sum_j S_j S_j^\top` and :math:`S_j` the sum of the scores of year j's exceedances (Chandler &
+    Bate [2]_ sec. 2), which carries the storms' clustering into the tail parameters; and (b) the whole-year
+    bootstrap variance of the level (robust: interquartile range / 1.349; resamples above the level grid count
+    as above the upper quartile), which also carries the uncertainty of the exceedance probability and of the
+    extremal-index function, both re-estimated in every resample.
+    """
+    from extremes.extremal.distributions import _gpd_cov, _gpd_nll_grad
+    from extremes.extremal.gpd_mle import shape_log_prior
+
+    cov = _gpd_cov(prob.y, scale, shape)
+    if prob.shape_prior is not None and np.all(np.isfinite(cov)):
+        information = np.linalg.inv(cov)
+        information[1, 1] -= float(shape_log_prior(shape, 2))
+        cov = np.linalg.inv(information)
+    grad = _level_gradient(prob, z_hat, target, scale, shape)
+    v_ind = np.einsum("pi,ij,pj->p", grad, cov, grad)
+    x = np.asarray(component.surge_m, dtype=float)
+    exc = x > prob.u
+    scores = _gpd_nll_grad((x[exc] - prob.u)[:, None], np.array([[scale]]), np.array([[shape]]))  # (n, 2)
+    _, year = np.unique(np.asarray(component.year_index)[exc], return_inverse=True)
+    per_year = np.zeros((int(year.max()) + 1 if year.size else 0, 2))
+    np.add.at(per_year, year, scores)
+    v_sandwich = np.einsum("pi,ij,pj->p", grad, cov @ (per_year.T @ per_year) @ cov, grad)
+    boot = np.asarray(bootstrap_levels, dtype=float)
+    with np.errstate(invalid="ignore"):
+        if np.isfinite(boot).any():
+            # above the grid (+inf): above every finite resample, so above the upper quartile unless a quarter
+            boot = np.where(np.isinf(boot), np.nanmax(np.where(np.isfinite(boot), boot, np.nan)) + 1.0, boot)
+            q25, q75 = np.nanquantile(boot, [0.25, 0.75], axis=0)
+        else:
+            q25 = q75 = np.full(z_hat.size, np.nan)
+    v_boot = ((q75 - q25) / (2 * special.ndtri(0.75))) ** 2
+    return v_ind, np.fmax(v_sandwich, v_boot)
+
+
+def _roots(deviance, z_hat, side, se, *, crit, tolerance_m=5e-4, max_expansions=30, max_steps=40):
+    """Where the adjusted deviance crosses the cut on each side of the estimate, all sides at once.
+
+    ``deviance(z, rows)`` is the adjusted deviance minus the cut (``-crit`` at the estimate, +inf where the
+    model has no support). A bracket grows from the estimate by steps of 1.5 bootstrap standard errors,
+    doubled while the deviance stays below the cut (stepping back where there is no support); an upper side
+    still below the cut after ``max_expansions`` doublings is unbounded (+inf). The crossing is then closed by
+    the Illinois variant of regula falsi [3]_ on the signed root :math:`\\sqrt{D_A(z)} - \\sqrt{c}`, which is
+    close to linear in z, so that a few vectorised evaluations of the profile reach ``tolerance_m``.
+
+    References
+    ----------
+    .. [3] M. Dowell and P. Jarratt, "A modified regula falsi method for computing the root of an equation,"
+       BIT, vol. 11, pp. 168-174, 1971.
+    """
     K = z_hat.size
-    rows = np.arange(K)
+    root_crit = np.sqrt(crit)
+
+    def signed_root(z, rows):
+        # +inf (no support) stays +inf; NaN never comes back from ``deviance``
+        return np.sqrt(np.maximum(deviance(z, rows) + crit, 0.0)) - root_crit
+
     step = np.where(np.isfinite(se) & (se > 0), 1.5 * se, 0.05)
-    a = z_hat.copy()
+    a, ta = z_hat.copy(), np.full(K, -root_crit)
     b = z_hat + side * step
-    fb = deviance(b, rows)
-    for _ in range(max_doublings):
-        need = np.flatnonzero(~(np.isfinite(fb) & (fb > 0)))
+    tb = signed_root(b, np.arange(K))
+    for _ in range(max_expansions):
+        need = np.flatnonzero(~(np.isfinite(tb) & (tb > 0)))
         if need.size == 0:
             break
-        finite = np.isfinite(fb[need])
-        # the profile has support: move the near end up and double; no support (-inf likelihood): step back
+        finite = np.isfinite(tb[need])
+        # the profile has support: move the near end up and double; no support (+inf): step back
         a[need] = np.where(finite, b[need], a[need])
+        ta[need] = np.where(finite, tb[need], ta[need])
         dist = np.abs(b[need] - z_hat[need])
         b[need] = z_hat[need] + side[need] * np.where(finite, 2.0 * dist, 0.6 * dist)
-        fb[need] = deviance(b[need], need)
-    bracketed = np.isfinite(fb) & (fb > 0)
+        tb[need] = signed_root(b[need], need)
+    bracketed = np.isfinite(tb) & (tb > 0)
     out = np.full(K, np.nan)
-    out[(side > 0) & ~bracketed & np.isfinite(fb)] = np.inf  # the data cannot limit it
-    idx = np.flatnonzero(bracketed)
-    if idx.size:
-        res = elementwise.find_root(lambda z, r: deviance(z, r.astype(np.int64)),
-                                    (np.minimum(a[idx], b[idx]), np.maximum(a[idx], b[idx])),
-                                    args=(idx.astype(float),), tolerances=dict(xatol=tolerance_m, xrtol=0.0))
-        out[idx] = np.where(res.status == 0, res.x, np.nan)
+    # an upper side that never crossed: the data cannot limit it (levels without support up there come from
+    # the scale's search range, not from the data)
+    out[(side > 0) & ~bracketed] = np.inf
+    _close_brackets(signed_root, a, b, ta, tb, np.flatnonzero(bracketed), tolerance_m, max_steps)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        lin = a - ta * (b - a) / (tb - ta)
+    inside = np.isfinite(lin) & (np.minimum(a, b) <= lin) & (lin <= np.maximum(a, b))
+    out[bracketed] = np.where(inside, lin, 0.5 * (a + b))[bracketed]
     return out
+
+
+def _close_brackets(signed_root, a, b, ta, tb, todo, tolerance_m, max_steps):
+    """Illinois regula falsi on the brackets ``todo`` (near end a with ta <= 0, far end b with tb > 0), in
+    place; ends where the model has no support count as past the crossing."""
+    fa, fb = ta.copy(), tb.copy()          # end values with the Illinois halving applied
+    last = np.zeros(a.size, dtype=int)
+    for _ in range(max_steps):
+        if todo.size == 0:
+            break
+        ai, bi, fai, fbi = a[todo], b[todo], fa[todo], fb[todo]
+        with np.errstate(invalid="ignore", divide="ignore"):
+            c = bi - fbi * (bi - ai) / (fbi - fai)
+        c = np.where(np.isfinite(c) & (np.minimum(ai, bi) < c) & (c < np.maximum(ai, bi)), c, 0.5 * (ai + bi))
+        tc = signed_root(c, todo)
+        far = ~(tc <= 0)
+        value = np.where(np.isfinite(tc), tc, np.maximum(fbi, 1e-3))
+        i_far, i_near = todo[far], todo[~far]
+        b[i_far], tb[i_far], fb[i_far] = c[far], value[far], value[far]
+        fa[i_far] = np.where(last[i_far] == 1, fa[i_far] / 2, fa[i_far])
+        last[i_far] = 1
+        a[i_near], ta[i_near], fa[i_near] = c[~far], value[~far], value[~far]
+        fb[i_near] = np.where(last[i_near] == -1, fb[i_near] / 2, fb[i_near])
+        last[i_near] = -1
+        with np.errstate(invalid="ignore", divide="ignore"):
+            # distance from c to the crossing by the local slope of the bracket
+            to_root = np.abs(value) * np.abs(b[todo] - a[todo]) / np.abs(tb[todo] - ta[todo])
+        done = (np.abs(b[todo] - a[todo]) < tolerance_m) | (to_root < 0.25 * tolerance_m)
+        todo = todo[~done]
 
 
 def _level_gradient(prob, z_hat, target, scale, shape, rel=1e-4):
