@@ -74,7 +74,10 @@ def _penalised_shape(m, per_weight):
         curv = 1.0 / xi**2 - 2.0 * m / xi**3 + shape_log_prior(xi, 2) * per_weight
         # Newton where the function is concave there; otherwise a small step uphill
         step = np.where(curv < 0, -grad / np.where(curv < 0, curv, -1.0), 0.01 * np.sign(grad))
-        xi = np.clip(xi + step, lo, hi)
+        new = np.clip(xi + step, lo, hi)
+        if not np.any(np.abs(new - xi) > 1e-13):  # NaN rows (outside the support) do not hold the loop
+            return new
+        xi = new
     return xi
 
 
