@@ -11,12 +11,19 @@ truth, the mean width of the interval and how many upper bounds the data could n
 The truth is the annual-maximum quantile of a long simulation of the same process (``--truth-years``);
 methods whose return period is ``1/rate`` are compared at the period of the same AEP (AEP = 1 - exp(-1/T)).
 
-Methods: the skew-surge joint probability (the recommended method) as it is now (fixed-quantile threshold,
-profile likelihood adjusted for clustering), with the bias-corrected bootstrap interval instead
-(``--methods all+bootstrap``), and as it was (automatic stability threshold, percentile bootstrap holding the threshold and the extremal index);
-peaks over threshold now (fixed rate of 1.5 peaks a year, at least 30) and as it was (stability threshold), both with profile
-likelihood; annual maxima (GEV, profile likelihood) and r-largest (r = 5, delta method, as in the study). The hourly joint probability is not
-covered: the simulated process is defined at high waters only.
+Methods: the skew-surge joint probability (the recommended method) as it is now (GPD tail by generalized
+maximum likelihood with the geophysical shape prior, threshold at the 0.985 quantile, profile likelihood whose
+deviance is scaled to the larger of the year-clustered sandwich and the whole-year bootstrap variance); with
+plain maximum likelihood at the 0.99 quantile and the deviance scaled to the bootstrap variance only
+("profile, MLE"; ``--methods all+variants``), with the bias-corrected bootstrap interval instead
+(``--methods all+variants``), and as it was when intervals were first checked (automatic stability threshold,
+percentile bootstrap holding the threshold and the extremal index: "previous"); peaks over threshold now
+(fixed rate of 1.5 peaks a year, at least 30) and as it was (stability threshold), both with profile
+likelihood; annual maxima (GEV, profile likelihood) and r-largest (r = 5, delta method, as in the study). The
+hourly joint probability is not covered: the simulated process is defined at high waters only.
+
+``--per-record FILE`` writes each record's levels, bounds and tail shape of the recommended method (JSON), to
+look at the misses.
 """
 from __future__ import annotations
 
@@ -51,8 +58,12 @@ def run_methods(process, seed, *, resamples, methods="all"):
     hw, skew, total = sample_record(process, seed)
     out = {}
     common = dict(periods_years=CURVE_PERIODS_YEARS, seed=seed, n_bootstrap=resamples)
-    out["skew-surge-joint-probability"] = skew_surge_joint_probability(hw, skew, **common).curve
-    if methods == "all+bootstrap":
+    now = skew_surge_joint_probability(hw, skew, **common)
+    out["skew-surge-joint-probability"] = now.curve
+    out["_shape"] = now.tail["all"]["shape"] if "all" in now.tail else float("nan")
+    if methods == "all+variants":
+        out["skew-surge-joint-probability, profile, MLE"] = skew_surge_joint_probability(
+            hw, skew, tail_method="mle", threshold_quantile=0.99, **common).curve
         out["skew-surge-joint-probability, bootstrap interval"] = skew_surge_joint_probability(
             hw, skew, interval="bootstrap", **common).curve
     out["skew-surge-joint-probability, previous"] = skew_surge_joint_probability(
@@ -100,14 +111,15 @@ def main(argv=None):
     parser.add_argument("--truth-years", type=int, default=200_000, help="years simulated for the truth")
     parser.add_argument("--variants", default=",".join(PROCESSES), help="comma-separated variant names")
     parser.add_argument("--first-seed", type=int, default=1000)
-    parser.add_argument("--methods", choices=("all", "all+bootstrap", "joint"), default="all",
-                        help="every method, plus the joint method's bootstrap interval, or the joint method only")
+    parser.add_argument("--methods", choices=("all", "all+variants", "joint"), default="all",
+                        help="every method, plus variants of the joint method, or the joint method (now, before)")
+    parser.add_argument("--per-record", type=Path, help="write each record's recommended levels to this JSON file")
     parser.add_argument("--json", type=Path, help="also write the summary as JSON to this file")
     parser.add_argument("--truth-cache", type=Path, help="JSON file of true levels to reuse between runs")
     args = parser.parse_args(argv)
     warnings.simplefilter("ignore")
     periods = np.asarray(PERIODS_YEARS)
-    summary = {}
+    summary, records = {}, []
     t_start = time.perf_counter()
     print(f"# coverage of 95 % intervals: {args.records} records of 30 years per variant, {args.resamples} "
           f"resamples, truth from {args.truth_years:,} simulated years\n")
@@ -125,10 +137,15 @@ def main(argv=None):
         rows = {}
         for r in range(args.records):
             curves = run_methods(process, args.first_seed + r, resamples=args.resamples, methods=args.methods)
+            shape = curves.pop("_shape")
             for name, curve in curves.items():
                 at = period_from_aep(1.0 / periods, definition="1/rate") if curve.period_definition == "1/rate" \
                     else periods
                 rows.setdefault(name, []).append(_at(curve, at))
+            level, lower, upper = rows["skew-surge-joint-probability"][-1]
+            records.append({"variant": variant, "seed": args.first_seed + r, "shape": shape,
+                            "level_m": level.tolist(), "lower_m": lower.tolist(),
+                            "upper_m": [None if np.isinf(v) else v for v in upper.tolist()]})
         summary[variant] = {"truth_m": truth.tolist(), "methods": {}}
         print(f"## {variant}: true levels " + ", ".join(f"{t:g} yr {z:.3f} m" for t, z in zip(periods, truth)))
         print("| method | period (years) | coverage | misses below / above | mean bias | mean width (m) | "
@@ -148,6 +165,8 @@ def main(argv=None):
     print(f"total time {time.perf_counter() - t_start:.0f} s")
     if args.json:
         args.json.write_text(json.dumps(summary, indent=1))
+    if args.per_record:
+        args.per_record.write_text(json.dumps({"periods_years": list(PERIODS_YEARS), "records": records}, indent=0))
 
 
 if __name__ == "__main__":

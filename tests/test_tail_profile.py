@@ -126,3 +126,67 @@ def test_skew_surge_result_states_its_interval_method_and_sensitivity():
     boot = skew_surge_joint_probability(hw, skew, n_bootstrap=100, seed=1, interval="bootstrap",
                                         periods_years=np.geomspace(1.01, 1000, 30))
     assert "bootstrap" in boot.curve.interval_method and "Chandler" not in boot.curve.interval_method
+
+
+def _variances(comp, shape_prior=None, bootstrap_levels=None):
+    prob = tail_profile._Problem(comp, theta_of_z=lambda z: np.ones_like(np.asarray(z, dtype=float)),
+                                 events_per_year=200.0, shape_prior=shape_prior)
+    periods = np.array([10.0, 100.0])
+    z_hat = comp.surge.threshold_m + stats.genpareto.isf(1 / (periods * 200 * comp.surge.tail_probability),
+                                                         comp.surge.shape, scale=comp.surge.scale_m)
+    boot = np.full((20, 2), np.nan) if bootstrap_levels is None else bootstrap_levels
+    return tail_profile.level_variances(prob, comp, z_hat, 1 / periods, comp.surge.scale_m, comp.surge.shape, boot)
+
+
+def test_sandwich_variance_is_unchanged_when_every_exceedance_is_duplicated_within_its_year():
+    # Chandler & Bate (2007) sec. 2: the independence likelihood of data whose every value appears twice (a
+    # perfectly clustered pair) has twice the information, so its naive variance halves, while the sandwich
+    # H^-1 V H^-1 (V from the per-year score sums, clusters = years) is that of the single data: the deviance
+    # scaling v_I / v_C halves
+    comp = _one_tide_component()
+    v_ind, v_clustered = _variances(comp)
+    twice = year_bootstrap.Component("all", comp.tide_m, 1.0, np.repeat(comp.surge_m, 2),
+                                     np.repeat(comp.year_index, 2))
+    twice.surge = year_bootstrap.fit_tail(twice.surge_m, threshold_m=comp.surge.threshold_m, years=20.0)
+    v_ind2, v_clustered2 = _variances(twice)
+    np.testing.assert_allclose(v_ind2, v_ind / 2, rtol=1e-3)
+    np.testing.assert_allclose(v_clustered2, v_clustered, rtol=1e-3)
+    # independent exceedances spread over many years: the sandwich is close to the naive variance
+    assert np.all((v_clustered / v_ind > 0.6) & (v_clustered / v_ind < 1.6))
+    # a wider bootstrap wins: the clustered variance is the larger of the two
+    wide = np.column_stack([np.linspace(0, 10, 20), np.linspace(0, 20, 20)])
+    assert np.all(_variances(comp, bootstrap_levels=wide)[1] > 10 * v_clustered)
+
+
+def test_profile_with_the_shape_prior_peaks_at_the_generalized_maximum_likelihood_estimate():
+    comp = _one_tide_component(n=1500)
+    comp.surge = year_bootstrap.fit_tail(comp.surge_m, threshold_m=1.0, years=20.0, method="gml")
+    prob = tail_profile._Problem(comp, theta_of_z=lambda z: np.ones_like(np.asarray(z, dtype=float)),
+                                 events_per_year=200.0, shape_prior="geophysical")
+    ll_hat = prob.loglik(np.array([[comp.surge.scale_m]]), np.array([[comp.surge.shape]]))[0, 0]
+    z_hat = 1.0 + stats.genpareto.isf(1 / (100 * 200 * comp.surge.tail_probability), comp.surge.shape,
+                                      scale=comp.surge.scale_m)
+    z = z_hat + np.array([-0.3, -0.1, 0.0, 0.1, 0.3])
+    ll = prob.profile(z, np.full(z.size, 1 / 100))
+    assert ll[2] == pytest.approx(ll_hat, abs=1e-4)  # the profile's maximum is the penalised fit
+    assert np.all(ll[[0, 1, 3, 4]] < ll[2])
+
+
+def test_a_period_where_the_tail_carries_little_of_the_variance_gets_no_profile_bounds():
+    # a bootstrap spread 100 times the tail's: the scaling v_I / v_C falls below MIN_PROFILE_ADJUSTMENT, and the
+    # caller keeps the bootstrap interval there (no bounds from the profile)
+    comp = _one_tide_component()
+    u, p_u = comp.surge.threshold_m, comp.surge.tail_probability
+    y = comp.surge_m[comp.surge_m > u] - u
+    z_hat = u + stats.genpareto.isf(1 / (np.array([10.0, 100.0]) * 200 * p_u), comp.surge.shape,
+                                    scale=comp.surge.scale_m)
+    v_ind, _ = _variances(comp)
+    rng = np.random.default_rng(1)
+    boot = z_hat + rng.normal(0, 1, (200, 2)) * np.sqrt(v_ind) * np.array([1.0, 30.0])
+    lo, hi, adj = tail_profile.adjusted_profile_bounds(
+        comp, theta_of_z=lambda z: np.ones_like(np.asarray(z, dtype=float)), events_per_year=200.0,
+        periods_years=np.array([10.0, 100.0]), level_m=z_hat,
+        loglik_hat=np.sum(stats.genpareto.logpdf(y, comp.surge.shape, scale=comp.surge.scale_m)),
+        scale_hat=comp.surge.scale_m, shape_hat=comp.surge.shape, bootstrap_levels=boot, confidence=0.95)
+    assert adj[1] < tail_profile.MIN_PROFILE_ADJUSTMENT <= adj[0]
+    assert np.isfinite(lo[0]) and np.isfinite(hi[0]) and np.isnan(lo[1]) and np.isnan(hi[1])
