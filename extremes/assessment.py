@@ -18,7 +18,9 @@ than a published number, "project rule" a choice of this package):
     experience (common practice) -> ``check``. For :math:`\xi \ge 0.5` the fitted distribution has no finite
     variance (Coles 2001, sec. 3.1.3) [1]_, which no sea-level record supports -> ``unreliable`` when it is
     the recommended method, ``check`` for a comparison method. For :math:`\xi < -0.5` maximum likelihood is
-    non-regular (Smith 1985) [3]_ -> ``check``.
+    non-regular (Smith 1985) [3]_ -> ``check``. A surge tail fitted with the geophysical shape prior (which
+    keeps its shape within (-0.5, 0.5)) is also judged by the shape its data give alone (plain maximum
+    likelihood): outside +/-0.3 -> ``check`` (the levels rest partly on the prior).
 ``level-above-record``
     The 100-year level of the recommended method against what the record and its tide explain: with HAT the
     highest astronomical tide and :math:`s_{max}` the largest skew surge observed,
@@ -285,6 +287,26 @@ def check_fitted_shape(inputs: AssessmentInputs) -> list[Finding]:
                                f"{method} ({role}): fitted shape {shape:.2f} is below "
                                f"{THRESHOLDS['shape_nonregular']:g}, where maximum likelihood is non-regular "
                                f"and its intervals are not to be trusted"))
+    for method, part, shape, plain in _prior_drawn_shapes(study):
+        if abs(plain) > THRESHOLDS["shape_check"]:
+            role = "recommended method" if method == study.recommended_method else "comparison method"
+            out.append(Finding("fitted-shape", "check",
+                               f"{method} ({role}): the surge tail{part} alone gives shape {plain:.2f} (plain "
+                               f"maximum likelihood), outside +/-{THRESHOLDS['shape_check']:g}; the levels use "
+                               f"{shape:.2f}, drawn in by the geophysical shape prior, so they rest partly on "
+                               f"the prior"))
+    return out
+
+
+def _prior_drawn_shapes(study) -> list[tuple[str, str, float, float]]:
+    """(method, part, shape used, plain maximum-likelihood shape) of every surge tail fitted with a shape prior."""
+    out = []
+    for method, detail in study.method_details.items():
+        tail = getattr(detail, "tail", None)
+        for part, values in (tail.items() if isinstance(tail, dict) else ()):
+            plain = values.get("shape_mle") if isinstance(values, dict) else None
+            if plain is not None and math.isfinite(float(plain)) and math.isfinite(float(values.get("shape", "nan"))):
+                out.append((method, "" if part == "all" else f" ({part})", float(values["shape"]), float(plain)))
     return out
 
 

@@ -73,6 +73,20 @@ def test_fitted_shape(shape, recommended, expected):
         assert f"{shape:.2f}" in result.reasons[0] and method in result.reasons[0]
 
 
+@pytest.mark.parametrize("plain, expected", [(0.12, "ok"), (0.62, "check"), (-0.4, "check")])
+def test_a_tail_drawn_in_by_the_shape_prior_is_judged_by_its_own_shape(plain, expected):
+    # the geophysical prior keeps the fitted shape within (-0.5, 0.5); the data's own (plain maximum-likelihood)
+    # shape outside +/-0.3 is the same reviewer's warning sign (common practice), shown as a check
+    study = _study()
+    study.method_details["skew-surge-joint-probability"] = SimpleNamespace(
+        tail={"all": {"shape": 0.18, "shape_mle": plain, "fit": "gml"}})
+    result = assess(quality=_quality(), study=study, checks=[assessment.check_fitted_shape])
+    assert result.status == expected
+    if expected != "ok":
+        assert f"{plain:.2f}" in result.reasons[0] and "prior" in result.reasons[0]
+
+
+
 @pytest.mark.parametrize("level, expected", [(5.8, "ok"), (4.6 + 2.5 * 1.2, "check"), (4.6 + 3.5 * 1.2, "unreliable")])
 def test_level_far_above_record_and_tide(level, expected):
     # R = (z100 - HAT) / largest skew surge: > 2 check, > 3 unreliable (assessment module docstring)

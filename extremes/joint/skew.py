@@ -141,7 +141,7 @@ def assemble(method, components, *, events_per_year, theta_table, year_ids, peri
     effect = pd.DataFrame({"return_period_years": tp, "level_unclustered_m": lu, "level_clustered_m": lc,
                            "difference_m": lc - lu})
     effect.attrs["units"] = "m"
-    tail = {c.label: c.surge.to_dict() for c in components}
+    tail = {c.label: _tail_summary(c, tail_method) for c in components}
     return JointProbabilityResult(method=method, curve=curve, curve_unclustered=curve_u,
                                   clustering_effect=effect,
                                   extremal_index=theta_table if isinstance(theta_table, pd.DataFrame) else None,
@@ -186,6 +186,23 @@ def _profile_interval(components, theta_of_z, events_per_year, periods, level_c,
     lo_c[inside] = np.where(np.isnan(lo_p[inside]), lo_c[inside], lo_p[inside])
     hi_c[inside] = np.where(np.isnan(hi_p[inside]), hi_c[inside], hi_p[inside])
     return lo_c, hi_c
+
+
+def _tail_summary(component, tail_method) -> dict:
+    """The fitted tail of one component for ``result.tail``: with the shape prior, also the shape the data give
+    alone (plain maximum likelihood, ``shape_mle``), so that a reader (and the assessment) sees how far the
+    prior drew it."""
+    from extremes.errors import FitError
+
+    out = {**component.surge.to_dict(), "fit": tail_method}
+    if tail_method == "gml":
+        try:
+            plain = year_bootstrap.fit_tail(component.surge_m, threshold_m=component.surge.threshold_m, years=1.0,
+                                            method="mle", weights=component.weight)
+            out["shape_mle"] = float(plain.shape)
+        except FitError:
+            out["shape_mle"] = None
+    return out
 
 
 def _threshold_sensitivity(components, thresholds, *, z, theta, h, events_per_year, tail_method):

@@ -8,13 +8,16 @@ the GPD log-likelihood of the exceedances maximised along that curve [1]_ sec. 3
 
 The GPD is fitted to every exceedance, and storms make them come in clusters, so the plain deviance is too
 sharp. Following Chandler and Bate [2]_, the deviance is scaled so that its curvature at the estimate
-matches a variance of :math:`\hat z_T` that respects the clustering: here the variance of the whole-year
-bootstrap (robust scale: interquartile range / 1.349), which also carries the uncertainty of the exceedance
-probability :math:`p_u` and of the extremal-index function θ(z), both held at their estimates in the profile.
-With :math:`v_I = \nabla z^\top H^{-1}\nabla z` the variance implied by the independence likelihood (observed
-information H) and :math:`v_B` the bootstrap variance, the adjusted deviance is
-:math:`D_A(z) = (v_I / v_B)\,D(z)` and the interval is :math:`\{z: D_A(z) \le \chi^2_1(1 - \alpha)\}`. An upper
-bound the adjusted deviance never reaches is unbounded (+inf).
+matches a variance of :math:`\hat z_T` that respects the clustering. With :math:`v_I = \nabla z^\top
+H^{-1}\nabla z` the variance implied by the independence likelihood (observed information H) and :math:`v_C`
+the clustered variance (:func:`level_variances`: the larger of the sandwich variance with years as clusters
+and the whole-year bootstrap variance, which also carries the uncertainty of the exceedance probability
+:math:`p_u` and of the extremal-index function θ(z), both held at their estimates in the profile), the
+adjusted deviance is :math:`D_A(z) = \min(1, v_I / v_C)\,D(z)` and the interval is
+:math:`\{z: D_A(z) \le \chi^2_1(1 - \alpha)\}`. An upper bound the adjusted deviance never reaches is
+unbounded (+inf). With a generalized maximum likelihood tail (the geophysical shape prior of
+:mod:`extremes.extremal.gpd_mle`) the log-likelihood is the penalised one and the shapes are those the prior
+allows, (-0.5, 0.5).
 
 References
 ----------
