@@ -47,8 +47,8 @@ __all__ = ["skew_surge_joint_probability", "NODAL_CYCLE_YEARS", "DAYS_PER_YEAR",
 #: depend on the tail estimates it precedes (a data-driven stability rule picks high thresholds exactly in the
 #: samples whose high-threshold shape comes out low, which biased the intervals low; benchmarks/bench_coverage.py).
 #: 0.99 rather than 0.985: with the shape prior its intervals were narrower at the same coverage, and where storms
-#: hold their peak a lower threshold raises the 100-year bias (bench_tide_types.py, semidiurnal, 60 records: plain
-#: maximum likelihood 0.0 % at 0.99 and +2.6 % at 0.985; with the prior +1.4 % at 0.99, +3.7 % at 0.985)
+#: hold their peak a lower threshold raises the 100-year bias (bench_tide_types.py, semidiurnal: plain maximum
+#: likelihood 0.0 % at 0.99 and +2.6 % at 0.985, 60 records; with the prior +1.3 % at 0.99 and +3.7 % at 0.985, 200)
 DEFAULT_THRESHOLD_QUANTILE = 0.99
 #: fewest exceedances the quantile rule leaves (a short record gets a lower quantile)
 MIN_TAIL_EXCEEDANCES = 50
