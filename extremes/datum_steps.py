@@ -58,7 +58,8 @@ __all__ = ["datum_shift_candidates", "monthly_means"]
 SIMULATION_SEED = 20080601
 
 
-def _empty() -> pd.DataFrame:
+def empty_shifts() -> pd.DataFrame:
+    """An empty table of datum-step candidates."""
     return pd.DataFrame({"time": pd.DatetimeIndex([], tz="UTC"), "size_m": np.array([], dtype=float),
                          "statistic": np.array([], dtype=float), "critical": np.array([], dtype=float)})
 
@@ -242,12 +243,12 @@ def datum_shift_candidates(level_m: pd.Series, *, eras: pd.DataFrame | None = No
         (:math:`T_k`) and ``critical`` (its critical value).
     """
     if len(level_m) == 0 or np.isfinite(level_m.to_numpy(dtype=float)).sum() < 2:
-        return _empty()
+        return empty_shifts()
     months = monthly_means(level_m, eras=eras)
     months = months[(months["coverage"] >= min_month_completeness) & months["mean_m"].notna()]
     n = len(months)
     if n < 2 * min_segment_months:
-        return _empty()
+        return empty_shifts()
     t_years = ((months.index - months.index[0]) / pd.Timedelta(days=DAYS_PER_YEAR)).to_numpy(dtype=float)
     x = months["mean_m"].to_numpy(dtype=float)
     calendar_month = months.index.month.to_numpy()
@@ -313,7 +314,7 @@ def datum_shift_candidates(level_m: pd.Series, *, eras: pd.DataFrame | None = No
 
     search(0, n)
     if not found:
-        return _empty()
+        return empty_shifts()
     found.sort()
     times = [_refine_to_day(level_m, months.index[k]) for k, _, _ in found]
     # sizes together: line, seasonal cycle (a value per calendar month) and one step per candidate, fitted

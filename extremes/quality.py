@@ -359,7 +359,8 @@ def _flag_out_of_range(uv: np.ndarray, u_rows: np.ndarray, codes: np.ndarray, ra
 def check_record(record: GaugeRecord, *, range_factor: float = 3.0, spike_k: float = 5.0,
                  spike_window_hours: float = 1.0, flatline_min_run: int = 4, flatline_min_hours: float = 1.0,
                  shift_threshold: float | None = None, min_month_completeness: float = 0.5,
-                 min_segment_months: int = 12, detect_clock_faults: bool = True) -> QualityReport:
+                 min_segment_months: int = 12, detect_clock_faults: bool = True,
+                 detect_datum_steps: bool = True) -> QualityReport:
     """Quality-control a record: flag every row (see the module notes for rules and precedence).
 
     Parameters
@@ -385,6 +386,9 @@ def check_record(record: GaugeRecord, *, range_factor: float = 3.0, spike_k: flo
         Shortest stretch between two datum-shift candidates [months].
     detect_clock_faults : bool, keyword-only
         Look for spans with a timing offset (:mod:`extremes.clock`).
+    detect_datum_steps : bool, keyword-only
+        Look for datum-step candidates (:mod:`extremes.datum_steps`). Both are gauge checks: model output
+        is on one clock and one datum, and the model-point mode leaves them out.
 
     Returns
     -------
@@ -406,7 +410,8 @@ def check_record(record: GaugeRecord, *, range_factor: float = 3.0, spike_k: flo
     options = dict(range_factor=range_factor, spike_k=spike_k, spike_window_hours=spike_window_hours,
                    flatline_min_run=int(flatline_min_run), flatline_min_hours=flatline_min_hours,
                    shift_threshold=shift_threshold, min_month_completeness=min_month_completeness,
-                   min_segment_months=int(min_segment_months), detect_clock_faults=bool(detect_clock_faults))
+                   min_segment_months=int(min_segment_months), detect_clock_faults=bool(detect_clock_faults),
+                   detect_datum_steps=bool(detect_datum_steps))
     series = record.water_level_m
     index = series.index
     if index.tz is None:
@@ -473,7 +478,8 @@ def check_record(record: GaugeRecord, *, range_factor: float = 3.0, spike_k: flo
     completeness = completeness_by_year(level, eras=eras)
     shifts = datum_steps.datum_shift_candidates(level, eras=eras, threshold=shift_threshold,
                                                 min_month_completeness=min_month_completeness,
-                                                min_segment_months=int(min_segment_months))
+                                                min_segment_months=int(min_segment_months)) \
+        if detect_datum_steps else datum_steps.empty_shifts()
     offsets = clock.timing_offsets(level, eras=eras) if detect_clock_faults else clock.empty_offsets()
     report = QualityReport(
         level_m=level, flags=flags, counts=_counts(codes), gaps=gaps, completeness_by_year=completeness,

@@ -32,6 +32,7 @@ __all__ = ["sampling_eras", "sample_intervals_ns", "represented_years", "eras_to
 MAX_OFF_GRID_FRACTION = 0.10
 _NS_PER_MINUTE = 60_000_000_000
 _YEAR_NS = DAYS_PER_YEAR * 86400e9
+_DAY_NS = 86_400_000_000_000
 
 
 def _as_ns(times) -> np.ndarray:
@@ -92,6 +93,26 @@ def _boundary(t: np.ndarray, lo: int, hi: int, old: int, new: int) -> int:
     return lo + int(j[np.argmax(score)])
 
 
+def _one_regular_era(t: np.ndarray) -> pd.DataFrame | None:
+    """The single era of stamps ``t`` (sorted, unique) on one constant spacing of at most a day, else None.
+
+    The month-by-month search of :func:`sampling_eras` finds exactly this era for such stamps (every month's
+    modal spacing is the constant one and every stamp lies on its grid); found here in one pass, as model
+    output and gap-filled grids are.
+    """
+    d = np.diff(t)
+    step = int(d[0])
+    if step > _DAY_NS or not bool(np.all(d == step)):
+        return None
+    return pd.DataFrame({
+        "start": pd.to_datetime(t[[0]], unit="ns", utc=True),
+        "end": pd.to_datetime(t[[-1]], unit="ns", utc=True),
+        "interval": pd.to_timedelta([step], unit="ns"),
+        "regular": np.array([True]),
+        "n_stamps": np.array([t.size]),
+    })
+
+
 def sampling_eras(times) -> pd.DataFrame:
     """Eras of constant sampling interval of a set of stamps.
 
@@ -110,6 +131,9 @@ def sampling_eras(times) -> pd.DataFrame:
     t = _sorted_unique(_as_ns(times))
     if t.size < 2:
         return _empty()
+    one = _one_regular_era(t)
+    if one is not None:
+        return one
     months = _month_table(t)
     months = months[months["mode"] > 0].reset_index(drop=True)
     if months.empty:

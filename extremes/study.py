@@ -76,7 +76,7 @@ class _Stages:
 
 def run_study(record_path, *, reader: dict | None = None, options: StudyOptions | None = None,
               progress: Callable[[str], None] | None = None, hourly_check: bool = True, reference=None,
-              reference_reader: dict | None = None):
+              reference_reader: dict | None = None, gauge_checks: bool = True):
     """Run the whole study on the record in file ``record_path``.
 
     Parameters
@@ -96,6 +96,8 @@ def run_study(record_path, *, reader: dict | None = None, options: StudyOptions 
         ``reference_reader`` (default: ``reader``).
     reference_reader : dict, optional
         Reader options of the reference file.
+    gauge_checks : bool, keyword-only
+        Look for clock faults and datum steps (False for model output: one clock and one datum).
 
     Returns
     -------
@@ -120,12 +122,12 @@ def run_study(record_path, *, reader: dict | None = None, options: StudyOptions 
         stages.start("reference gauge")
         reference = load_reference(reference, reader=reader if reference_reader is None else reference_reader)
     return run_study_record(record, options=options, progress=progress, reader=reader, _stages=stages,
-                            hourly_check=hourly_check, reference=reference)
+                            hourly_check=hourly_check, reference=reference, gauge_checks=gauge_checks)
 
 
 def run_study_series(level_m: pd.Series, *, datum: str = "unspecified", source: str = "<series>",
                      options: StudyOptions | None = None, progress: Callable[[str], None] | None = None,
-                     hourly_check: bool = True, reference=None):
+                     hourly_check: bool = True, reference=None, gauge_checks: bool = True):
     """Run the whole study on an in-memory series (e.g. one point of a gridded model output).
 
     Parameters
@@ -138,6 +140,8 @@ def run_study_series(level_m: pd.Series, *, datum: str = "unspecified", source: 
         A name for the series, recorded as its source.
     reference : ReferenceGauge, optional
         A prepared long gauge for a short site (:func:`extremes.transfer.stage.load_reference`).
+    gauge_checks : bool, keyword-only
+        Look for clock faults and datum steps (False for model output: one clock and one datum).
     """
     from extremes.records import GaugeRecord
 
@@ -158,7 +162,7 @@ def run_study_series(level_m: pd.Series, *, datum: str = "unspecified", source: 
     record = GaugeRecord(water_level_m=series, datum=datum, source=source, sha256=digest,
                          interval=interval, meta={"format": "in-memory series"})
     return run_study_record(record, options=options, progress=progress, hourly_check=hourly_check,
-                            reference=reference)
+                            reference=reference, gauge_checks=gauge_checks)
 
 
 def _excluded_readings_note(record, qc) -> str | None:
@@ -190,9 +194,10 @@ def _valid_record_years(record, qc) -> float:
 
 def run_study_record(record, *, options: StudyOptions | None = None,
                      progress: Callable[[str], None] | None = None, reader: dict | None = None,
-                     _stages: _Stages | None = None, hourly_check: bool = True, reference=None):
+                     _stages: _Stages | None = None, hourly_check: bool = True, reference=None,
+                     gauge_checks: bool = True):
     """Run the study on a :class:`extremes.records.GaugeRecord` already read (``hourly_check``: see
-    :func:`run_study`).
+    :func:`run_study`; ``gauge_checks``: see :func:`run_study_series`).
 
     The stages, each one library call: :func:`extremes.quality.check_record`,
     :func:`extremes.tide.stage.analyse_record_tide`, the direct methods
@@ -219,7 +224,9 @@ def run_study_record(record, *, options: StudyOptions | None = None,
     with warnings.catch_warnings(record=True) as warned:
         warnings.simplefilter("always", ExtremesWarning)
         stages.start("quality control")
-        qc = quality.check_record(record)
+        qc = quality.check_record(record, detect_clock_faults=gauge_checks, detect_datum_steps=gauge_checks)
+        if not gauge_checks:
+            notes.append("clock-fault and datum-step checks left out: a model point is on one clock and one datum")
         excluded = _excluded_readings_note(record, qc)
         notes += [excluded] if excluded else []
         record_years = _valid_record_years(record, qc)

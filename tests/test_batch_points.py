@@ -90,6 +90,7 @@ def test_model_point_mode_matches_the_full_study(tmp_path):
                                    out_dir=tmp_path / "full" / point.name, figures=False)
         quick = batch.completed_results(tmp_path / "fast" / point.name)
         assert quick["recommended_method"] == full["recommended_method"]
+        assert quick["assessment"]["status"] == full["assessment"]["status"]  # the verdict too
         got, want = _levels(quick), _levels(full)
         assert {m for m, _ in want} - {m for m, _ in got} == {"joint-probability"}  # the hourly check method
         for key, row in got.items():
@@ -103,6 +104,7 @@ def test_model_point_mode_matches_the_full_study(tmp_path):
         assert not (tmp_path / "fast" / point.name / "tables").exists()
         assert (tmp_path / "fast" / point.name / "models" / "curves.json").is_file()
         assert any("left out" in note for note in quick["notes"])
+        assert any("one clock and one datum" in note for note in quick["notes"])  # gauge checks left out
 
 
 @pytest.mark.slow  # batches on local dask clusters

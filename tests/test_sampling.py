@@ -68,3 +68,15 @@ def test_completeness_measured_against_each_era_interval():
 def test_naive_times_refused():
     with pytest.raises(ValueError, match="tz-aware"):
         sampling_eras(pd.date_range("2001-01-01", periods=10, freq="h"))
+
+
+@pytest.mark.parametrize("freq, n", [("h", 20_000), ("6min", 3_000), ("D", 400), ("10min", 3)])
+def test_one_regular_grid_gives_the_month_search_era(freq, n, monkeypatch):
+    """The one-pass era of a constant spacing equals the month-by-month search's (the shortcut is exact)."""
+    import extremes.sampling as sampling
+
+    times = pd.date_range("1994-01-01 00:07", periods=n, freq=freq, tz="UTC")
+    fast = sampling_eras(times)
+    monkeypatch.setattr(sampling, "_one_regular_era", lambda t: None)
+    pd.testing.assert_frame_equal(fast, sampling_eras(times))
+    assert len(fast) == 1 and fast["n_stamps"].iloc[0] == n

@@ -66,7 +66,8 @@ def completed_results(station_dir: str | os.PathLike) -> dict | None:
 
 
 def study_station(station: Station, *, options, seed: int, out_dir: Path, overwrite: bool = False,
-                  figures: bool = True, hourly_check: bool = True, tables: bool = True, reference=None) -> dict:
+                  figures: bool = True, hourly_check: bool = True, tables: bool = True, reference=None,
+                  gauge_checks: bool = True) -> dict:
     """The full study of one station, written to ``out_dir``; returns its ``results.json`` mapping.
 
     Runs :func:`extremes.study.run_study` (a file) or :func:`extremes.study.run_study_series` (an
@@ -74,7 +75,8 @@ def study_station(station: Station, *, options, seed: int, out_dir: Path, overwr
     :func:`extremes.results.write_study` (with the figures and HTML report unless ``figures=False``).
     ``hourly_check=False`` leaves out the hourly joint-probability comparison method; ``tables=False`` the
     CSV tables; ``reference``: one prepared long gauge (:func:`extremes.transfer.stage.load_reference`)
-    serving every station.
+    serving every station; ``gauge_checks=False`` leaves out the clock-fault and datum-step checks, which
+    are for gauges (model output is on one clock and one datum).
     """
     from extremes import results as results_module
     from extremes import study as study_module
@@ -87,9 +89,10 @@ def study_station(station: Station, *, options, seed: int, out_dir: Path, overwr
         extra["reference"] = reference
     if station.level_m is not None:
         result = study_module.run_study_series(station.level_m, datum=station.datum, source=station.source,
-                                               options=options, **extra)
+                                               options=options, gauge_checks=gauge_checks, **extra)
     else:
-        result = study_module.run_study(station.path, reader=dict(station.reader), options=options, **extra)
+        result = study_module.run_study(station.path, reader=dict(station.reader), options=options,
+                                        gauge_checks=gauge_checks, **extra)
     results_module.write_study(result, out_dir, overwrite=overwrite, figures=figures, tables=tables)
     document = completed_results(out_dir)
     if document is None:
@@ -98,12 +101,13 @@ def study_station(station: Station, *, options, seed: int, out_dir: Path, overwr
 
 
 def study_point(station: Station, *, options, seed: int, out_dir: Path, overwrite: bool = False) -> dict:
-    """The model-point mode of :func:`study_station`: no hourly check method, figures, report or tables.
+    """The model-point mode of :func:`study_station`: no hourly check method, figures, report or tables,
+    and no clock-fault or datum-step checks (gauge checks: a model point is on one clock and one datum).
 
     Writes ``results.json`` (every number) and the saved models (so ``extremes rerun`` works on a point).
     """
     return study_station(station, options=options, seed=seed, out_dir=out_dir, overwrite=overwrite,
-                         figures=False, hourly_check=False, tables=False)
+                         figures=False, hourly_check=False, tables=False, gauge_checks=False)
 
 
 def one_line(err: BaseException) -> str:

@@ -52,6 +52,7 @@ from extremes.tide.synthesis import (  # noqa: F401
     _GridBlocks,
     _synthesise,
     predict_tide,
+    shared_phases,
 )
 from extremes.timebase import level_series
 
@@ -123,11 +124,13 @@ def shared_design():
     Points of a gridded model output usually share their time axis: the normal matrix :math:`X^TX` of the
     least-squares fit (and the phases of its regular grid) are then built once, and each further series
     only needs :math:`X^Ty` (:meth:`_GridBlocks.project`). The fit is the same to floating-point rounding.
-    Only the last design is kept (memory ~ one design's block phases).
+    Only the last design is kept (memory ~ one design's block phases). Predictions on a shared grid share
+    their block phases too (:func:`extremes.tide.synthesis.shared_phases`).
     """
     token = _SHARED_DESIGN.set({})
     try:
-        yield
+        with shared_phases():
+            yield
     finally:
         _SHARED_DESIGN.reset(token)
 

@@ -13,6 +13,8 @@ References
 """
 from __future__ import annotations
 
+import contextlib
+import contextvars
 import logging
 
 import numpy as np
@@ -94,6 +96,54 @@ def _regular_step(d: np.ndarray) -> float | None:
     return float(step)
 
 
+#: block phases kept for reuse within :func:`shared_phases`: ``{key: (f cos, f sin)}`` (None: not sharing)
+_SHARED_PHASES: contextvars.ContextVar = contextvars.ContextVar("extremes_shared_block_phases", default=None)
+#: most block-phase tables kept within :func:`shared_phases` (a study predicts on about six grids)
+_SHARED_MAX = 8
+
+
+@contextlib.contextmanager
+def shared_phases():
+    r"""Within this context, predictions on the same regular grid with the same constituents share the
+    phases of its six-hour blocks.
+
+    The block terms :math:`f_{bj}\cos a_{bj}` and :math:`f_{bj}\sin a_{bj}` (:math:`a = V + u` at the block's
+    start) depend on the grid and the constituents only; each further prediction applies its own constants by
+    :math:`\cos(a - G) = \cos a \cos G + \sin a \sin G`, so the points of a model output that share their
+    time axis pay for the cosines once. The prediction is the same to floating-point rounding (about 1e-16 of
+    each amplitude). At most :data:`_SHARED_MAX` grids are kept (tens of MB each for decades at 10 minutes).
+    """
+    token = _SHARED_PHASES.set({})
+    try:
+        yield
+    finally:
+        _SHARED_PHASES.reset(token)
+
+
+def _block_terms(d0: float, step: float, n_blocks: int, per_block: int, basis: _Basis):
+    """``f cos a``, ``f sin a`` at the first sample of each block (:func:`_synthesise_regular`), from the
+    :func:`shared_phases` store when there; None outside that context."""
+    shared = _SHARED_PHASES.get()
+    if shared is None:
+        return None
+    key = (float(d0), float(step), int(n_blocks), int(per_block), tuple(basis.names))
+    found = shared.get(key)
+    if found is None:
+        half = 0.5 * step * (per_block - 1)
+        phase, f = basis.phase_and_f(d0 + step * per_block * np.arange(n_blocks) + half)
+        phase -= ((basis.doodson @ _RATES_DEG_PER_DAY) * _RAD) * half
+        found = _keep_terms(shared, key, (f * np.cos(phase), f * np.sin(phase)))
+    return found
+
+
+def _keep_terms(shared: dict, key: tuple, terms: tuple) -> tuple:
+    """Store block terms under ``key``, dropping the oldest beyond :data:`_SHARED_MAX`; the terms."""
+    if len(shared) >= _SHARED_MAX:
+        shared.pop(next(iter(shared)))
+    shared[key] = terms
+    return terms
+
+
 def _synthesise_regular(d0: float, step: float, n: int, basis: _Basis, amplitudes_m: np.ndarray,
                         phases_deg: np.ndarray) -> np.ndarray:
     r"""Prediction on a regular grid by blocks of (at most) six hours.
@@ -110,12 +160,18 @@ def _synthesise_regular(d0: float, step: float, n: int, basis: _Basis, amplitude
     per_block = max(1, int(np.floor(_BLOCK_DAYS / step + 1e-9)))
     n_blocks = -(-n // per_block)
     half = 0.5 * step * (per_block - 1)
-    # nodal terms at the middle of each block; V carried back linearly to the block's first sample
-    phase, f = basis.phase_and_f(d0 + step * per_block * np.arange(n_blocks) + half)
     speed_rad_per_day = (basis.doodson @ _RATES_DEG_PER_DAY) * _RAD
-    phase -= phases_deg * _RAD + speed_rad_per_day * half
-    amp = f * amplitudes_m
-    c_re, c_im = amp * np.cos(phase), amp * np.sin(phase)
+    terms = _block_terms(d0, step, n_blocks, per_block, basis)
+    if terms is not None:  # shared block phases: cos(a - G) = cos a cos G + sin a sin G
+        g = phases_deg * _RAD
+        cos_g, sin_g = amplitudes_m * np.cos(g), amplitudes_m * np.sin(g)
+        c_re, c_im = terms[0] * cos_g + terms[1] * sin_g, terms[1] * cos_g - terms[0] * sin_g
+    else:
+        # nodal terms at the middle of each block; V carried back linearly to the block's first sample
+        phase, f = basis.phase_and_f(d0 + step * per_block * np.arange(n_blocks) + half)
+        phase -= phases_deg * _RAD + speed_rad_per_day * half
+        amp = f * amplitudes_m
+        c_re, c_im = amp * np.cos(phase), amp * np.sin(phase)
     arg = speed_rad_per_day[:, None] * (step * np.arange(per_block))[None, :]
     out = c_re @ np.cos(arg) - c_im @ np.sin(arg)
     return out.reshape(-1)[:n]
@@ -178,6 +234,10 @@ class _GridBlocks:
 
     def synthesise(self, amplitudes_m: np.ndarray, phases_deg: np.ndarray) -> np.ndarray:
         n_grid = int(self.k[-1]) + 1
+        shared = _SHARED_PHASES.get()
+        key = (self.d0, self.step, self.fc.shape[0], self.per_block, tuple(self.basis.names))
+        if shared is not None and key not in shared:  # the same block terms as _block_terms computes
+            _keep_terms(shared, key, (self.fc, self.fs))
         full = _synthesise_regular(self.d0, self.step, n_grid, self.basis, amplitudes_m, phases_deg)
         return full[self.k]
 
