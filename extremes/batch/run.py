@@ -31,6 +31,12 @@ logger = logging.getLogger(__name__)
 
 __all__ = ["BatchSettings", "dask_client", "run_batch"]
 
+#: dask's setting that starts workers with ``MALLOC_TRIM_THRESHOLD_=65536``; fixing that threshold also fixes
+#: glibc's mmap threshold at 128 KiB (mallopt(3)), so every array of a study's size is mapped afresh and
+#: page-faulted on each use: a model point then costs about a third more CPU, half of it in the kernel
+#: (benchmarks/bench_batch.py). Local workers are started without it (glibc's adaptive thresholds).
+_TRIM_KEY = "distributed.nanny.pre-spawn-environ.MALLOC_TRIM_THRESHOLD_"
+
 
 @dataclass(frozen=True)
 class BatchSettings:
@@ -93,8 +99,10 @@ def dask_client(*, scheduler: str | None = None, workers: int | None = None):
 
     The local cluster runs ``workers`` processes (default: the number of CPUs) with one thread each; its
     HTTP server (dashboard, health checks) listens on a free loopback port, so that runs side by side do
-    not compete for port 8787.
+    not compete for port 8787. Its workers keep the C library's own memory-allocation thresholds
+    (:data:`_TRIM_KEY`).
     """
+    import dask
     from distributed import Client, LocalCluster
 
     if scheduler is not None:
@@ -107,8 +115,9 @@ def dask_client(*, scheduler: str | None = None, workers: int | None = None):
             yield client
         return
     n_workers = int(workers or os.cpu_count() or 1)
-    with LocalCluster(n_workers=n_workers, threads_per_worker=1, processes=True, dashboard_address="127.0.0.1:0",
-                      silence_logs=logging.ERROR) as cluster, Client(cluster) as client:
+    with dask.config.set({_TRIM_KEY: None}), LocalCluster(
+            n_workers=n_workers, threads_per_worker=1, processes=True, dashboard_address="127.0.0.1:0",
+            silence_logs=logging.ERROR) as cluster, Client(cluster) as client:
         yield client
 
 
