@@ -10,10 +10,12 @@ on the 2-core development machine), with its cost split by stage.
 
 ``--points N`` writes a gridded NetCDF file of N points (hourly, ``--years`` long, one shared time axis,
 as model output is), studies one point by the full study in process (no figures) for reference, then the
-file through the batch in the model-point mode with 1 and 2 workers. Its table: wall time per point, the
-CPU time the workers spent per point (core-seconds: what a point costs whatever else runs on the machine),
-the projection to 1,000 points, and the split of a point's cost by stage (the study's own stage timers; the
-rest is reading, writing and the task). Points are independent and a block's first point pays for the
+file through the batch in the model-point mode with 1 and 2 workers. Its table: wall time of the batch, of
+its tasks and of the summary files and page written at its end, wall time per point, the CPU time the
+workers spent per point (core-seconds: what a point costs whatever else runs on the machine), the
+projection to 1,000 points (the tasks' time per point x 1,000 plus the summaries), and the split of a
+point's cost by stage (the study's own stage timers; the rest is reading, writing and the task). The load
+average is printed before and after the batches (the machine may be shared). Points are independent and a block's first point pays for the
 tide design its other points share, so the cost per point is flat in the number of points once blocks
 hold a few points: a run of a few dozen points measures the per-point cost of 1,000.
 
@@ -30,6 +32,7 @@ import argparse
 import dataclasses
 import functools
 import json
+import os
 import resource
 import shutil
 import statistics
@@ -146,8 +149,9 @@ def bench_points(args, work: Path) -> None:
               f"{k} {statistics.mean(r.get(k, 0.0) for r in stage_rows[1:] or stage_rows):.2f}"
               for k in stage_rows[0]) + " s wall)")
 
-    print(f"\n{'workers':>7} {'wall_s':>7} {'s/point':>8} {'core_s/point':>12} {'1000 points':>12} "
-          f"{'failed':>6} {'peak_MB/worker':>16}")
+    print(f"\nload average before the batches: {', '.join(f'{v:.2f}' for v in os.getloadavg())}")
+    print(f"{'workers':>7} {'wall_s':>7} {'tasks_s':>7} {'summary_s':>9} {'s/point':>8} {'core_s/point':>12} "
+          f"{'1000 points':>12} {'failed':>6} {'peak_MB/worker':>16}")
     stages = None
     for n_workers in [int(w) for w in args.workers.split(",")]:
         with batch.dask_client(workers=n_workers) as client:
@@ -159,10 +163,15 @@ def bench_points(args, work: Path) -> None:
             wall = time.perf_counter() - t1
             after, peaks = client.run(_cpu_seconds), client.run(_peak_rss_mb)
         core = sum(after[w] - before[w] for w in after) / args.points
+        # the tasks (summary.seconds: until the last point is back) and the summary files and page, written once
+        # per batch whatever its size; 1,000 points: the tasks' cost per point x 1,000 plus the summaries
+        tasks, pages = summary.seconds, wall - summary.seconds
         per_point = wall / args.points
-        print(f"{n_workers:>7} {wall:>7.1f} {per_point:>8.2f} {core:>12.2f} {per_point * 1000 / 60:>9.1f} min "
-              f"{summary.n_failed:>6} {', '.join(f'{v:.0f}' for v in peaks.values()):>16}")
+        projected = (tasks / args.points * 1000 + pages) / 60
+        print(f"{n_workers:>7} {wall:>7.1f} {tasks:>7.1f} {pages:>9.1f} {per_point:>8.2f} {core:>12.2f} "
+              f"{projected:>8.1f} min {summary.n_failed:>6} {', '.join(f'{v:.0f}' for v in peaks.values()):>16}")
         stages = summary.outcomes
+    print(f"load average after: {', '.join(f'{v:.2f}' for v in os.getloadavg())}")
     rows = [o for o in stages if o["status"] == "ok"]
     names = list(dict.fromkeys(k for o in rows for k in o["stage_seconds"]))
     split = {k: float(np.mean([o["stage_seconds"].get(k, 0.0) for o in rows])) for k in names}
