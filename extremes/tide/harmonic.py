@@ -114,6 +114,9 @@ def _band_variances(d: np.ndarray, resid: np.ndarray, bands: np.ndarray) -> tupl
     return out, "band-averaged residual spectrum"
 
 
+#: rows of the design gathered at a time from the grid blocks (temporaries of ~4 MB)
+_GATHER_ROWS = 8192
+
 _SHARED_DESIGN: contextvars.ContextVar = contextvars.ContextVar("extremes_shared_tide_design", default=None)
 
 
@@ -312,19 +315,28 @@ class _Design:
         return (hashlib.sha1(d.tobytes()).hexdigest(), tuple(self.names + self.inferred), self.trend,
                 self.ref_index.tobytes(), self.ratio.tobytes(), self.delta.tobytes())
 
-    def rows(self, d_rows: np.ndarray, grid, sl: slice) -> np.ndarray:
-        """Design rows of samples ``d_rows`` (``grid``: the era's regular-grid blocks, or None)."""
+    def rows(self, d_rows: np.ndarray, grid, sl: slice, out: np.ndarray | None = None) -> np.ndarray:
+        """Design rows of samples ``d_rows`` (``grid``: the era's regular-grid blocks, or None), written into
+        ``out`` (Fortran order, at least as many rows) when given."""
         m_fit, n_lead = self.m_fit, self.n_lead
-        x = np.empty((d_rows.shape[0], self.n_par), order="F")
+        if out is not None and out.shape[0] >= d_rows.shape[0]:
+            x = out[:d_rows.shape[0]]
+        else:
+            x = np.empty((d_rows.shape[0], self.n_par), order="F")
         x[:, 0] = 1.0
         if self.trend:
             x[:, 1] = (d_rows - self.d_mid) / _DAYS_PER_YEAR
         c_block = x[:, n_lead:n_lead + m_fit]
         s_block = x[:, n_lead + m_fit:]
         if grid is not None:
-            c_block[...], s_block[...] = grid.cos_sin(sl, slice(0, m_fit))
-            if self.inferred:
-                ci, si = grid.cos_sin(sl, slice(m_fit, None))
+            # gathered a few thousand rows at a time: the temporaries stay in memory the allocator reuses (a
+            # whole block's would be mapped afresh and page-faulted at each block); the same numbers
+            for i0 in range(0, d_rows.shape[0], _GATHER_ROWS):
+                i1 = min(i0 + _GATHER_ROWS, d_rows.shape[0])
+                part = slice(sl.start + i0, sl.start + i1)
+                c_block[i0:i1], s_block[i0:i1] = grid.cos_sin(part, slice(0, m_fit))
+                if self.inferred:
+                    self._constrain(c_block[i0:i1], s_block[i0:i1], *grid.cos_sin(part, slice(m_fit, None)))
         else:
             phase, f = self.basis.phase_and_f(d_rows)
             np.cos(phase[:, :m_fit], out=c_block)
@@ -332,12 +344,16 @@ class _Design:
             np.sin(phase[:, :m_fit], out=s_block)
             s_block *= f[:, :m_fit]
             if self.inferred:
-                ci, si = f[:, m_fit:] * np.cos(phase[:, m_fit:]), f[:, m_fit:] * np.sin(phase[:, m_fit:])
+                self._constrain(c_block, s_block, f[:, m_fit:] * np.cos(phase[:, m_fit:]),
+                                f[:, m_fit:] * np.sin(phase[:, m_fit:]))
+        return x
+
+    def _constrain(self, c_block: np.ndarray, s_block: np.ndarray, ci: np.ndarray, si: np.ndarray) -> None:
+        """Add the inferred constituents' columns ``ci``, ``si`` to their references' (in place)."""
         for q, r in enumerate(self.ref_index):  # constrained columns: f cos(phi - delta) = f cos phi cos delta + ...
             cd, sd = np.cos(self.delta[q]) * self.ratio[q], np.sin(self.delta[q]) * self.ratio[q]
             c_block[:, r] += ci[:, q] * cd + si[:, q] * sd
             s_block[:, r] += si[:, q] * cd - ci[:, q] * sd
-        return x
 
 
 def _normal_equations(record: _Record, design: _Design, chunk_size: int):
@@ -354,11 +370,13 @@ def _normal_equations(record: _Record, design: _Design, chunk_size: int):
         return reused[1], xty, grids
     xtx = np.zeros((design.n_par, design.n_par))
     xty = np.zeros(design.n_par)
+    # one block buffer for every block (allocated and page-faulted once)
+    buffer = np.empty((min(chunk_size, max(b - a for a, b, _ in segments)), design.n_par), order="F")
     for (first, stop, _), grid, weight in zip(segments, grids, record.weights()):
         d_seg, y_seg = d[first:stop], y[first:stop]
         for start in range(0, stop - first, chunk_size):
             sl = slice(start, start + chunk_size)
-            x = design.rows(d_seg[sl], grid, sl)
+            x = design.rows(d_seg[sl], grid, sl, out=buffer)
             upper = scipy.linalg.blas.dsyrk(float(weight), x, trans=1)  # w X^T X, upper triangle
             xtx += np.triu(upper) + np.triu(upper, 1).T
             xty += weight * (x.T @ y_seg[sl])
