@@ -143,14 +143,40 @@ def _newton(fun, theta0, *, grad=None, hess=None, grad_hess=None, max_iter=60):
 
     def G(th, rows):
         if num:
+            # central differences; every shifted point of every row in one call of ``fun`` (rows are
+            # independent problems: the same numbers as one call per shift, without the per-call overhead)
             h = 1e-6 * np.maximum(1.0, np.abs(th))
-            g = np.empty_like(th)
+            shifted = []
             for j in range(p):
                 e = np.zeros_like(th)
                 e[:, j] = h[:, j]
-                g[:, j] = (F(th + e, rows) - F(th - e, rows)) / (2 * h[:, j])
+                shifted += [th + e, th - e]
+            values = F(np.concatenate(shifted), np.tile(rows, 2 * p)).reshape(2 * p, th.shape[0])
+            g = np.empty_like(th)
+            for j in range(p):
+                g[:, j] = (values[2 * j] - values[2 * j + 1]) / (2 * h[:, j])
             return g
         return grad(th, rows)
+
+    def hessian_columns(th, g, h, idx):
+        """Columns of the Hessian by differences of the gradient (central with a numeric gradient, whose
+        shifted points all go in one call)."""
+        H = np.empty((th.shape[0], p, p))
+        shifts = []
+        for j in range(p):
+            e = np.zeros_like(th)
+            e[:, j] = h[:, j]
+            shifts.append(e)
+        if num:
+            both = G(np.concatenate([th + e for e in shifts] + [th - e for e in shifts]), np.tile(idx, 2 * p))
+            up, down = both[:p * th.shape[0]], both[p * th.shape[0]:]
+            for j in range(p):
+                sl = slice(j * th.shape[0], (j + 1) * th.shape[0])
+                H[:, :, j] = (up[sl] - down[sl]) / (2 * h[:, j, None])
+        else:
+            for j in range(p):
+                H[:, :, j] = (G(th + shifts[j], idx) - g) / h[:, j, None]
+        return H
 
     hrel = 1e-4 if num else 1e-6
     f = F(theta, np.arange(B))
@@ -167,14 +193,8 @@ def _newton(fun, theta0, *, grad=None, hess=None, grad_hess=None, max_iter=60):
             g = G(th, idx)
         bad = ~np.all(np.isfinite(g), axis=1)
         h = hrel * np.maximum(1.0, np.abs(th))
-        H = np.empty((idx.size, p, p))
-        for j in (range(p) if hess is None and grad_hess is None else ()):
-            e = np.zeros_like(th)
-            e[:, j] = h[:, j]
-            if num:
-                H[:, :, j] = (G(th + e, idx) - G(th - e, idx)) / (2 * h[:, j, None])
-            else:
-                H[:, :, j] = (G(th + e, idx) - g) / h[:, j, None]
+        if hess is None and grad_hess is None:
+            H = hessian_columns(th, g, h, idx)
         if grad_hess is not None:
             H = H_given
         elif hess is not None:
