@@ -280,6 +280,8 @@ def _era_segments(d: np.ndarray) -> list[tuple[int, int, float]]:
 
 def _synthesise_by_era(d: np.ndarray, basis: _Basis, amplitudes_m: np.ndarray, phases_deg: np.ndarray) -> np.ndarray:
     """:func:`_synthesise` on each sampling era, so each era keeps the fast regular-grid paths."""
+    if _regular_step(d) is not None:  # one constant spacing: one era (no era search on the float times)
+        return _synthesise(d, basis, amplitudes_m, phases_deg)
     increasing = d.shape[0] < 2 or bool(np.all(d[1:] > d[:-1]))
     segments = _era_segments(d) if d.shape[0] >= _REGULAR_MIN and increasing else [(0, d.shape[0], 0.0)]
     if len(segments) == 1:
