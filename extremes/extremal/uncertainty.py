@@ -106,10 +106,14 @@ def _profile_bounds(nll_full, to_params, inner_hat, z_hat, side, se, ll_hat, cri
     def profile(z, rows):
         """Maximised log-likelihood at z for problems ``rows`` (warm-started)."""
         best_th = inner_last[rows].copy()
-        best_val = nll_full(to_params(z, best_th, rows), rows)
-        for start in [lambda ih: ih] + list(extra_starts):
-            st = start(inner_hat[rows])
-            val0 = nll_full(to_params(z, st, rows), rows)
+        # the warm start and every starting point, evaluated in one call (rows are independent problems),
+        # then taken in turn where better
+        starts = [best_th] + [start(inner_hat[rows]) for start in [lambda ih: ih] + list(extra_starts)]
+        n_st = len(starts)
+        values = nll_full(to_params(np.tile(z, n_st), np.concatenate(starts), np.tile(rows, n_st)),
+                          np.tile(rows, n_st)).reshape(n_st, rows.size)
+        best_val = values[0].copy()
+        for st, val0 in zip(starts[1:], values[1:]):
             better = np.isfinite(val0) & ~(val0 >= best_val)
             best_th[better] = st[better]
             best_val[better] = val0[better]
