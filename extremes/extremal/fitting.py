@@ -213,24 +213,7 @@ def _newton(fun, theta0, *, grad=None, hess=None, grad_hess=None, max_iter=60):
         neg = slope < 0
         d = np.where(neg[:, None], d, -gz / np.maximum(1.0, np.abs(gz).max(axis=1, keepdims=True)))
         slope = np.sum(d * gz, axis=1)
-        step = np.ones(idx.size)
-        accepted = np.zeros(idx.size, bool)
-        new_th = th.copy()
-        new_f = f[idx].copy()
-        todo = ~(done | bad)
-        for _ls in range(40):
-            if not todo.any():
-                break
-            k = np.flatnonzero(todo)
-            cand = th[k] + step[k, None] * d[k]
-            fc = F(cand, idx[k])
-            ok = np.isfinite(fc) & (fc <= f[idx[k]] + 1e-4 * step[k] * slope[k])
-            acc = k[ok]
-            new_th[acc] = cand[ok]
-            new_f[acc] = fc[ok]
-            accepted[acc] = True
-            todo[acc] = False
-            step[k[~ok]] *= 0.5
+        new_th, new_f, accepted = _line_search(F, th, f[idx], d, slope, idx, ~(done | bad))
         moved = np.max(np.abs(new_th - th), axis=1)
         tiny = moved <= 1e-12 * np.maximum(1.0, np.abs(th).max(axis=1))
         theta[idx] = new_th
@@ -241,6 +224,43 @@ def _newton(fun, theta0, *, grad=None, hess=None, grad_hess=None, max_iter=60):
         stop = finished | bad | (~accepted & ~finished)
         active[idx[stop]] = False
     return theta, f, converged
+
+
+#: step halvings of the line search tried in one call of the objective after the full step fails
+_HALVINGS_PER_CALL = 8
+#: most step halvings of the line search
+_MAX_HALVINGS = 40
+
+
+def _line_search(F, th, f, d, slope, idx, todo):
+    """Backtracking (Armijo) line search along ``d`` from ``th`` for the rows ``todo``: the first of the steps
+    1, 1/2, 1/4, ... (at most :data:`_MAX_HALVINGS`) that lowers ``F`` enough; returns the new parameters and
+    values and which rows accepted a step.
+
+    The full step is tried alone (Newton steps are mostly accepted); after it, :data:`_HALVINGS_PER_CALL`
+    halvings at a time go in one call of ``F`` (a row's problems are independent, the steps exact powers of
+    two): the same step as halving one at a time, without a call per halving.
+    """
+    new_th, new_f = th.copy(), f.copy()
+    accepted = np.zeros(th.shape[0], bool)
+    todo = todo.copy()
+    first = 0
+    while first < _MAX_HALVINGS and todo.any():
+        count = 1 if first == 0 else min(_HALVINGS_PER_CALL, _MAX_HALVINGS - first)
+        k = np.flatnonzero(todo)
+        steps = 0.5 ** np.arange(first, first + count)
+        cand = th[k][None, :, :] + steps[:, None, None] * d[k][None, :, :]
+        fc = F(cand.reshape(-1, th.shape[1]), np.tile(idx[k], count)).reshape(count, k.size)
+        ok = np.isfinite(fc) & (fc <= f[k][None, :] + 1e-4 * steps[:, None] * slope[k][None, :])
+        hit = ok.any(axis=0)
+        j = np.argmax(ok, axis=0)[hit]
+        acc = k[hit]
+        new_th[acc] = cand[j, np.flatnonzero(hit)]
+        new_f[acc] = fc[j, np.flatnonzero(hit)]
+        accepted[acc] = True
+        todo[acc] = False
+        first += count
+    return new_th, new_f, accepted
 
 
 def _scipy_refit(objective, theta0):
