@@ -190,3 +190,25 @@ def test_a_period_where_the_tail_carries_little_of_the_variance_gets_no_profile_
         scale_hat=comp.surge.scale_m, shape_hat=comp.surge.shape, bootstrap_levels=boot, confidence=0.95)
     assert adj[1] < tail_profile.MIN_PROFILE_ADJUSTMENT <= adj[0]
     assert np.isfinite(lo[0]) and np.isfinite(hi[0]) and np.isnan(lo[1]) and np.isnan(hi[1])
+
+
+def test_with_the_shape_prior_independent_exceedances_get_no_clustering_adjustment():
+    # Chandler & Bate adjust the data's information for clustering, not the prior's: with independent
+    # exceedances spread over many years the adjusted variance (H V^-1 H + P)^-1 is close to (H + P)^-1
+    comp = _one_tide_component(n=3000)
+    comp.year_index = np.arange(comp.surge_m.size) % 150
+    comp.surge = year_bootstrap.fit_tail(comp.surge_m, threshold_m=1.0, years=150.0, method="gml")
+    v_ind, v_clustered = _variances(comp, shape_prior="geophysical")
+    assert np.all((v_clustered / v_ind > 0.75) & (v_clustered / v_ind < 1.33)), v_clustered / v_ind
+
+
+def test_many_resamples_above_the_grid_keep_the_bootstrap_interval():
+    # more than a quarter of a period's resamples above the level grid: the bootstrap cannot give that period a
+    # finite spread, its variance is infinite and the profile is not used there (NaN bounds: the caller keeps
+    # the bootstrap interval, unbounded above); a few of them only sit above the upper quartile
+    boot = np.tile(np.linspace(3.0, 3.4, 100)[:, None], (1, 3))
+    boot[:10, 1] = np.inf
+    boot[:40, 2] = np.inf
+    v = tail_profile._bootstrap_variance(boot, 3)
+    assert np.isfinite(v[0]) and np.isposinf(v[2])
+    assert v[1] > v[0]  # the ten +inf count above the upper quartile

@@ -139,7 +139,8 @@ def fit_gpd_many(exceedances, *, model="gpd", weights=None, n_grid=40, shape_pri
         w_abs = np.ones_like(y)
     else:
         w_abs = np.atleast_2d(np.asarray(weights, dtype=float))
-        y = np.broadcast_to(y, w_abs.shape)
+        # a value a resample leaves out (weight 0) must not limit θ > -1/y: set it to 0 (it adds nothing)
+        y = np.where(w_abs > 0, np.broadcast_to(y, w_abs.shape), 0.0)
     total = w_abs.sum(axis=1)
     if shape_prior not in SHAPE_PRIORS:
         raise ValueError(f"shape_prior must be one of {SHAPE_PRIORS}; got {shape_prior!r}")

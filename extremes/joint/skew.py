@@ -182,6 +182,10 @@ def _profile_interval(components, theta_of_z, events_per_year, periods, level_c,
                                                   for t, a in zip(periods[idx], adjustment)}
     logp = np.log(periods)
     inside = periods >= periods[idx[0]]
+    # a node without profile bounds (the tail carries little of the variance there, or no crossing was found)
+    # takes the bootstrap bounds, so that its neighbourhood is not interpolated across it
+    lo = np.where(np.isnan(lo), lo_boot[idx], lo)
+    hi = np.where(np.isnan(hi), hi_boot[idx], hi)
     lo_p, hi_p = interp_log_period(logp[idx], lo, logp), interp_log_period(logp[idx], hi, logp)
     lo_c[inside] = np.where(np.isnan(lo_p[inside]), lo_c[inside], lo_p[inside])
     hi_c[inside] = np.where(np.isnan(hi_p[inside]), hi_c[inside], hi_p[inside])

@@ -232,44 +232,69 @@ def adjusted_profile_bounds(component, *, theta_of_z, events_per_year, periods_y
 
 
 def level_variances(prob, component, z_hat, target, scale, shape, bootstrap_levels):
-    r"""Variance of the levels from the independence likelihood, and the clustered variance.
+    r"""Variance of the levels from the (penalised) likelihood, and the clustered variance.
 
-    The independence variance :math:`v_I = \nabla z^\top H^{-1} \nabla z` uses the observed information H of
-    the (penalised) log-likelihood. The clustered variance :math:`v_C` is the larger of (a) the sandwich
-    variance with the years as clusters, :math:`\nabla z^\top H^{-1} V H^{-1} \nabla z` with
-    :math:`V = \sum_j S_j S_j^\top` and :math:`S_j` the sum of the scores of year j's exceedances (Chandler &
-    Bate [2]_ sec. 2), which carries the storms' clustering into the tail parameters; and (b) the whole-year
-    bootstrap variance of the level (robust: interquartile range / 1.349; resamples above the level grid count
-    as above the upper quartile), which also carries the uncertainty of the exceedance probability and of the
-    extremal-index function, both re-estimated in every resample.
+    With :math:`H_d` the observed information of the data's log-likelihood and P that of the log shape prior
+    (zero without one), the likelihood's own variance is :math:`v_I = \nabla z^\top (H_d + P)^{-1} \nabla z`.
+    The clustered variance :math:`v_C` is the larger of (a) the Chandler & Bate variance with whole years as
+    clusters [2]_ sec. 2, :math:`\nabla z^\top (H_d V^{-1} H_d + P)^{-1} \nabla z`, where
+    :math:`V = \sum_j (S_j - \bar S)(S_j - \bar S)^\top` and :math:`S_j` sums the scores of year j's
+    exceedances (the data part is adjusted for the storms' clustering, the prior is not data); and (b) the
+    whole-year bootstrap variance of the level (interquartile range / 1.349), which also carries the
+    uncertainty of the exceedance probability and of the extremal-index function, re-estimated in every
+    resample. Resamples above the level grid (+inf) count as above the upper quartile; when they are more than
+    a quarter of a period's resamples the bootstrap variance there is infinite (so the caller keeps the
+    bootstrap interval, which the data cannot limit either).
     """
     from extremes.extremal.distributions import _gpd_cov, _gpd_nll_grad
     from extremes.extremal.gpd_mle import shape_log_prior
 
-    cov = _gpd_cov(prob.y, scale, shape)
-    if prob.shape_prior is not None and np.all(np.isfinite(cov)):
-        information = np.linalg.inv(cov)
-        information[1, 1] -= float(shape_log_prior(shape, 2))
-        cov = np.linalg.inv(information)
+    cov_data = _gpd_cov(prob.y, scale, shape)
     grad = _level_gradient(prob, z_hat, target, scale, shape)
-    v_ind = np.einsum("pi,ij,pj->p", grad, cov, grad)
+    prior_info = np.zeros((2, 2))
+    if prob.shape_prior is not None:
+        prior_info[1, 1] = -float(shape_log_prior(shape, 2))
+    v_ind = v_sandwich = np.full(z_hat.size, np.nan)
+    if np.all(np.isfinite(cov_data)):
+        info_data = np.linalg.inv(cov_data)
+        v_ind = np.einsum("pi,ij,pj->p", grad, np.linalg.inv(info_data + prior_info), grad)
+        meat = _year_score_covariance(component, prob.u, scale, shape, _gpd_nll_grad)
+        if np.linalg.cond(meat) < 1e12:
+            adjusted = np.linalg.inv(info_data @ np.linalg.inv(meat) @ info_data + prior_info)
+            v_sandwich = np.einsum("pi,ij,pj->p", grad, adjusted, grad)
+    return v_ind, np.fmax(v_sandwich, _bootstrap_variance(bootstrap_levels, z_hat.size))
+
+
+def _year_score_covariance(component, threshold_m, scale, shape, score_fn):
+    """V: the sum over years of the centred outer products of each year's summed GPD scores (2, 2)."""
     x = np.asarray(component.surge_m, dtype=float)
-    exc = x > prob.u
-    scores = _gpd_nll_grad((x[exc] - prob.u)[:, None], np.array([[scale]]), np.array([[shape]]))  # (n, 2)
-    _, year = np.unique(np.asarray(component.year_index)[exc], return_inverse=True)
-    per_year = np.zeros((int(year.max()) + 1 if year.size else 0, 2))
-    np.add.at(per_year, year, scores)
-    v_sandwich = np.einsum("pi,ij,pj->p", grad, cov @ (per_year.T @ per_year) @ cov, grad)
+    exc = x > threshold_m
+    scores = score_fn((x[exc] - threshold_m)[:, None], np.array([[scale]]), np.array([[shape]]))  # (n, 2)
+    years = np.unique(np.asarray(component.year_index))  # every year, with exceedances or not
+    per_year = np.zeros((years.size, 2))
+    np.add.at(per_year, np.searchsorted(years, np.asarray(component.year_index)[exc]), scores)
+    centred = per_year - per_year.mean(axis=0)
+    return centred.T @ centred
+
+
+def _bootstrap_variance(bootstrap_levels, n_periods):
+    """Robust variance (interquartile range / 1.349)^2 of the bootstrap levels per period; +inf (above the grid)
+    sits above the upper quartile, and more than a quarter of them make the variance infinite."""
     boot = np.asarray(bootstrap_levels, dtype=float)
-    with np.errstate(invalid="ignore"):
-        if np.isfinite(boot).any():
-            # above the grid (+inf): above every finite resample, so above the upper quartile unless a quarter
-            boot = np.where(np.isinf(boot), np.nanmax(np.where(np.isfinite(boot), boot, np.nan)) + 1.0, boot)
-            q25, q75 = np.nanquantile(boot, [0.25, 0.75], axis=0)
-        else:
-            q25 = q75 = np.full(z_hat.size, np.nan)
-    v_boot = ((q75 - q25) / (2 * special.ndtri(0.75))) ** 2
-    return v_ind, np.fmax(v_sandwich, v_boot)
+    if boot.ndim != 2 or not np.isfinite(boot).any():
+        return np.full(n_periods, np.nan)
+    out = np.full(boot.shape[1], np.nan)
+    for j in range(boot.shape[1]):
+        column = boot[~np.isnan(boot[:, j]), j]
+        finite = column[np.isfinite(column)]
+        if column.size == 0 or finite.size == 0:
+            continue
+        if np.mean(np.isposinf(column)) > 0.25:
+            out[j] = np.inf
+            continue
+        q25, q75 = np.quantile(np.where(np.isposinf(column), finite.max(), column), [0.25, 0.75])
+        out[j] = ((q75 - q25) / (2 * special.ndtri(0.75))) ** 2
+    return out
 
 
 def _roots(deviance, z_hat, side, se, *, crit, tolerance_m=5e-4, max_expansions=30, max_steps=40):

@@ -103,3 +103,17 @@ def test_a_heavy_small_sample_is_drawn_towards_the_prior_and_a_large_one_is_not(
     assert fit_gpd_many(large, shape_prior="geophysical")[0][0, 1] == pytest.approx(0.45, abs=0.03)
     with pytest.raises(ValueError, match="shape_prior"):
         fit_gpd_many(small, shape_prior="flat")
+
+
+@pytest.mark.parametrize("shape_prior", [None, "geophysical"])
+def test_a_value_left_out_of_a_resample_does_not_limit_the_fit(shape_prior):
+    # a weight of 0 on the largest value: the fit must equal the fit of the sample without it (theta > -1/y is
+    # the support of the values present only)
+    rng = np.random.default_rng(12)
+    y = np.sort(stats.genpareto.rvs(-0.3, scale=1.0, size=40, random_state=rng))
+    y[-1] = 25.0
+    weights = np.ones((1, y.size))
+    weights[0, -1] = 0.0
+    got = fit_gpd_many(y, weights=weights, shape_prior=shape_prior)[0][0]
+    expected = fit_gpd_many(y[:-1], shape_prior=shape_prior)[0][0]
+    assert got == pytest.approx(expected, abs=1e-7)
